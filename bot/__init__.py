@@ -1,0 +1,1 @@
+"""Flatpact's chat side: round engine, storage, Telegram adapter and the local sandbox."""

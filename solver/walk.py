@@ -1,0 +1,524 @@
+"""The walk: path following through the restart prism, one private question at a time.
+
+Method. Each *stage* works at one mesh ``N`` of the price grid (see
+:mod:`solver.triangulation`). It is Merrill's restart method (O. H. Merrill, PhD thesis,
+University of Michigan, 1972; M. J. Todd, "The Computation of Fixed Points and Applications",
+1976, ch. 5): a prism ``simplex x [0, 1]`` is triangulated; level 0 carries artificial labels
+that point at a *target* price vector and have exactly one fully labelled cell
+(:mod:`solver.labelling`), level 1 carries the members' answers, asked on demand. A *door* is
+a facet of a prism cell whose ``n`` vertices carry all ``n`` room labels. The walk enters the
+prism through the unique door of level 0 and repeatedly leaves the current cell through its
+other door (every cell has zero or two doors; the new vertex duplicates exactly one label,
+and the door opposite the older duplicate is the way on), as in the classical proof of
+Sperner's lemma (E. Sperner, Abh. Math. Sem. Hamburg 6, 1928) and Scarf's and Kuhn's
+algorithms. Cells are finite and no cell is entered twice, so the walk stops at a door on the
+prism's boundary. That door is not on level 0 (the only level-0 door is where we came in) and
+not on a side ``{x[i] = 0} x [0, 1]``: on a side every vertex prices room ``i`` at the floor, and
+with the boundary rule every label is a floor room of its vertex; showing all ``n`` labels
+would need every room at the floor somewhere in one cell, so every coordinate would be at most
+one grid step and ``sum(x) = N <= n``, but stages use ``N > n``. Hence the walk ends on level 1,
+in a cell of the members' simplex whose ``n`` vertices have ``n`` different owners (one per
+member) and ``n`` different rooms: a candidate division. This holds for *any* answers that obey
+the boundary rule (F. E. Su, "Rental Harmony", Amer. Math. Monthly 106, 1999, for the rule).
+
+Refinement. The found cell certifies an envy bound (:mod:`solver.envy`). If the bound exceeds
+the round's tolerance, the walk restarts at a mesh ``factor`` times finer, with the target at
+the best point of the found cell. Each restart is again a complete Merrill stage, so the
+termination guarantee holds stage by stage; the mesh is capped at one minor unit, where the
+bound is at most 2 units (the minimum tolerance), so refinement ends too.
+
+Questions. A level-1 vertex is answered by its owner. It costs no question when exactly one
+room is at the floor (the boundary rule decides) or when the same member already answered at
+exactly the same prices (the answer is reused). When several rooms are at the floor the member
+chooses among those rooms only.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from fractions import Fraction
+from typing import Any, Literal
+
+from solver.envy import Choice, best_point, envy_bound
+from solver.errors import BrokenInvariant, InvalidAnswer, InvalidState
+from solver.labelling import floor_rooms, start_cell, start_label, valid_target
+from solver.money import split_exactly
+from solver.problem import Problem
+from solver.triangulation import Cell, Vertex, check_cell, level, owner_index, top_facet, x_from_s
+
+Source = Literal["asked", "rule", "repeat", "objection"]
+FORMAT_NAME = "flatpact-walk"
+FORMAT_VERSION = 1
+
+
+@dataclass(frozen=True, slots=True)
+class Schedule:
+    """How the walk refines: the first mesh (a multiple of the room count) and the factor."""
+
+    first_mesh_per_room: int = 2
+    factor: int = 4
+
+    def first_mesh(self, rooms: int, budget: int) -> int:
+        """The coarsest mesh: at least ``rooms + 1`` and never finer than one minor unit."""
+        return min(max(self.first_mesh_per_room * rooms, rooms + 1), budget)
+
+    def to_dict(self) -> dict[str, int]:
+        return {"first_mesh_per_room": self.first_mesh_per_room, "factor": self.factor}
+
+
+@dataclass(frozen=True, slots=True)
+class Question:
+    """One private question: "at these prices, which room would you take?"."""
+
+    id: str
+    member: str
+    prices: tuple[int, ...]
+    choices: tuple[int, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class Record:
+    """One entry of the walk's log: a label and where it came from."""
+
+    seq: int
+    stage: int
+    member: str
+    prices: tuple[int, ...]
+    room: int
+    source: Source
+    vertex: Vertex | None
+
+    def to_list(self) -> list[Any]:
+        vertex = list(self.vertex) if self.vertex is not None else None
+        return [
+            self.seq,
+            self.stage,
+            self.member,
+            list(self.prices),
+            self.room,
+            self.source,
+            vertex,
+        ]
+
+    @classmethod
+    def from_list(cls, data: Sequence[Any]) -> Record:
+        seq, stage, member, prices, room, source, vertex = data
+        return cls(
+            seq,
+            stage,
+            member,
+            tuple(prices),
+            room,
+            source,
+            tuple(vertex) if vertex is not None else None,
+        )
+
+
+@dataclass(frozen=True, slots=True)
+class Evidence:
+    """Why a member's room is theirs: at ``prices`` (their vertex) they took ``room``."""
+
+    member: str
+    room: int
+    prices: tuple[int, ...]
+    source: Source
+
+
+@dataclass(frozen=True, slots=True)
+class Proposal:
+    """A division: who takes which room at which price, with the evidence behind it."""
+
+    assignment: Mapping[str, int]
+    prices: tuple[int, ...]
+    evidence: tuple[Evidence, ...]
+    envy_bound: int
+    mesh: int
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "assignment": dict(self.assignment),
+            "prices": list(self.prices),
+            "evidence": [[e.member, e.room, list(e.prices), e.source] for e in self.evidence],
+            "envy_bound": self.envy_bound,
+            "mesh": self.mesh,
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> Proposal:
+        return cls(
+            assignment=dict(data["assignment"]),
+            prices=tuple(data["prices"]),
+            evidence=tuple(Evidence(m, r, tuple(p), s) for m, r, p, s in data["evidence"]),
+            envy_bound=data["envy_bound"],
+            mesh=data["mesh"],
+        )
+
+
+@dataclass(frozen=True, slots=True)
+class Stage:
+    """One Merrill restart: its mesh and the target grid point of its start layer."""
+
+    mesh: int
+    target: tuple[int, ...]
+
+
+@dataclass(slots=True)
+class Counters:
+    """Running totals for reports and benchmarks."""
+
+    asked: int = 0
+    inferred: int = 0
+    reused: int = 0
+    steps: int = 0
+
+
+@dataclass(slots=True)
+class _Pending:
+    question: Question
+    vertex: Vertex
+    seq: int
+
+
+@dataclass
+class Walk:
+    """A resumable envy-free rent-division walk. Create with :meth:`start`."""
+
+    problem: Problem
+    schedule: Schedule
+    stages: list[Stage]
+    cell: Cell
+    entering: int
+    records: list[Record] = field(default_factory=list)
+    pending: _Pending | None = None
+    proposed: Proposal | None = None
+    next_seq: int = 1
+    steps: int = 0
+    _labels: dict[Vertex, int] = field(default_factory=dict, repr=False)
+    _memory: dict[tuple[str, tuple[int, ...]], int] = field(default_factory=dict, repr=False)
+
+    # ----------------------------------------------------------------- public protocol
+
+    @classmethod
+    def start(
+        cls,
+        problem: Problem,
+        *,
+        schedule: Schedule | None = None,
+        start_prices: Sequence[int] | None = None,
+    ) -> Walk:
+        """Begin a walk; ``start_prices`` (ints summing to the rent) only steers the start."""
+        schedule = schedule or Schedule()
+        mesh = schedule.first_mesh(problem.size, problem.budget)
+        centre = tuple(start_prices) if start_prices is not None else _equal_split(problem)
+        if len(centre) != problem.size or sum(centre) != problem.rent:
+            raise InvalidAnswer(
+                f"start prices must list {problem.size} amounts that sum to {problem.rent}"
+            )
+        stage = Stage(mesh, target_near(problem, centre, mesh))
+        walk = cls(problem, schedule, [stage], start_cell(stage.target, mesh), problem.size)
+        walk._advance()
+        return walk
+
+    def open_questions(self) -> list[Question]:
+        """Questions waiting for an answer (at most one: the walk is sequential)."""
+        return [self.pending.question] if self.pending is not None else []
+
+    def answer(self, question_id: str, room_index: int) -> None:
+        """Record an answer and advance; bad input raises and changes nothing."""
+        pending = self.pending
+        if pending is None or pending.question.id != question_id:
+            raise InvalidAnswer(
+                f"question {question_id!r} is not open (it was answered already, "
+                "or never asked); answer one of the open questions instead"
+            )
+        self._check_room(room_index, pending.question.choices)
+        self.pending = None
+        q = pending.question
+        self._record(q.member, q.prices, room_index, "asked", pending.vertex, pending.seq)
+        self._advance()
+
+    def proposal(self) -> Proposal | None:
+        """The proposed division once the walk has found one, else ``None``."""
+        return self.proposed
+
+    def dispute(self, member: str, room_index: int) -> None:
+        """``member`` would rather take ``room_index`` at the proposed prices: walk on."""
+        proposal = self.proposed
+        if proposal is None:
+            raise InvalidState("there is no proposal to object to yet; answer the open questions")
+        if member not in proposal.assignment:
+            raise InvalidAnswer(f"{member!r} is not a member of this round")
+        self._check_room(room_index, tuple(range(self.problem.size)))
+        if room_index == proposal.assignment[member]:
+            raise InvalidAnswer(
+                "that is the room already proposed for this member; to object, name the room "
+                "they would rather take at the proposed prices"
+            )
+        self._record(member, proposal.prices, room_index, "objection", None)
+        self.proposed = None
+        self._restart(proposal.prices)
+        self._advance()
+
+    @property
+    def counters(self) -> Counters:
+        """Questions asked, answers inferred by the boundary rule, reused answers, steps."""
+        c = Counters(steps=self.steps)
+        for r in self.records:
+            if r.source == "asked":
+                c.asked += 1
+            elif r.source == "rule":
+                c.inferred += 1
+            elif r.source == "repeat":
+                c.reused += 1
+        if self.pending is not None:
+            c.asked += 1
+        return c
+
+    def questions_per_member(self) -> dict[str, int]:
+        """How many questions each member has been asked (the open one included)."""
+        counts = dict.fromkeys(self.problem.members, 0)
+        for r in self.records:
+            if r.source == "asked":
+                counts[r.member] += 1
+        if self.pending is not None:
+            counts[self.pending.question.member] += 1
+        return counts
+
+    # ----------------------------------------------------------------- the path
+
+    def _advance(self) -> None:
+        """Follow doors until a question is needed or a proposal is made."""
+        while self.pending is None and self.proposed is None:
+            vertices = self.cell.vertices()
+            if self._label(vertices[self.entering]) is None and not self._ask_or_infer(
+                vertices[self.entering]
+            ):
+                return
+            labels = [self._label(v) for v in vertices]
+            twins = [i for i, lab in enumerate(labels) if lab == labels[self.entering]]
+            if len(twins) != 2 or len(set(labels)) != self.problem.size:
+                raise BrokenInvariant(f"cell {self.cell} with labels {labels} is not a door pair")
+            drop = twins[0] if twins[1] == self.entering else twins[1]
+            exit_facet = [v for i, v in enumerate(vertices) if i != drop]
+            if top_facet(exit_facet):
+                self._finish_stage(exit_facet)
+                continue
+            self._pivot(drop)
+
+    def _pivot(self, drop: int) -> None:
+        mesh = self.stages[-1].mesh
+        self.cell = self.cell.pivot(drop)
+        check_cell(self.cell, mesh)
+        self.entering = {0: self.problem.size, self.problem.size: 0}.get(drop, drop)
+        self.steps += 1
+
+    def _label(self, vertex: Vertex) -> int | None:
+        """The label of a vertex if known: artificial on level 0, an answer on level 1."""
+        if level(vertex) == 0:
+            stage = self.stages[-1]
+            return start_label(x_from_s(vertex, stage.mesh), stage.target)
+        return self._labels.get(vertex)
+
+    def _ask_or_infer(self, vertex: Vertex) -> bool:
+        """Label a level-1 vertex without asking if possible; otherwise open a question."""
+        stage = self.stages[-1]
+        x = x_from_s(vertex, stage.mesh)
+        member = self.problem.members[owner_index(vertex)]
+        prices = grid_prices(self.problem, x, stage.mesh)
+        at_floor = floor_rooms(x)
+        if len(at_floor) == 1:
+            self._record(member, prices, at_floor[0], "rule", vertex)
+            return True
+        choices = at_floor or tuple(range(self.problem.size))
+        known = self._memory.get((member, prices))
+        if known is not None and known in choices:
+            self._record(member, prices, known, "repeat", vertex)
+            return True
+        seq = self._take_seq()
+        self.pending = _Pending(Question(f"q{seq}", member, prices, choices), vertex, seq)
+        return False
+
+    def _take_seq(self) -> int:
+        seq = self.next_seq
+        self.next_seq += 1
+        return seq
+
+    def _record(
+        self,
+        member: str,
+        prices: tuple[int, ...],
+        room: int,
+        source: Source,
+        vertex: Vertex | None,
+        seq: int | None = None,
+    ) -> None:
+        """Append to the log (the single source of truth) and learn from the entry."""
+        if seq is None:
+            seq = self._take_seq()
+        record = Record(seq, len(self.stages) - 1, member, prices, room, source, vertex)
+        self.records.append(record)
+        self._learn(record)
+
+    def _learn(self, record: Record) -> None:
+        if record.vertex is not None and record.stage == len(self.stages) - 1:
+            self._labels[record.vertex] = record.room
+        if record.source in ("asked", "objection"):
+            self._memory[(record.member, record.prices)] = record.room
+
+    # ----------------------------------------------------------------- stages
+
+    def _finish_stage(self, facet: Sequence[Vertex]) -> None:
+        stage = self.stages[-1]
+        evidence = [self._evidence(v) for v in facet]
+        choices = [Choice(e.member, e.room, e.prices) for e in evidence]
+        centre = tuple(
+            sum((Fraction(v) for v in coord), Fraction(0)) / len(facet)
+            for coord in zip(*(x_from_s(v, stage.mesh) for v in facet), strict=True)
+        )
+        candidates = [grid_prices(self.problem, centre, stage.mesh)]
+        candidates += [e.prices for e in evidence]
+        point, bound = best_point(choices, candidates)
+        if bound <= self.problem.tolerance or stage.mesh >= self.problem.budget:
+            self.proposed = Proposal(
+                assignment={e.member: e.room for e in evidence},
+                prices=point,
+                evidence=tuple(
+                    sorted(evidence, key=lambda e: self.problem.members.index(e.member))
+                ),
+                envy_bound=envy_bound(choices, point),
+                mesh=stage.mesh,
+            )
+            return
+        self._restart(point)
+
+    def _evidence(self, vertex: Vertex) -> Evidence:
+        stage_no = len(self.stages) - 1
+        for r in reversed(self.records):
+            if r.stage == stage_no and r.vertex == vertex:
+                return Evidence(r.member, r.room, r.prices, r.source)
+        raise BrokenInvariant(f"vertex {vertex} of the final cell has no recorded answer")
+
+    def _restart(self, centre: tuple[int, ...]) -> None:
+        """Start a new Merrill stage at a finer mesh, aimed at ``centre``."""
+        mesh = min(self.stages[-1].mesh * self.schedule.factor, self.problem.budget)
+        stage = Stage(mesh, target_near(self.problem, centre, mesh))
+        self.stages.append(stage)
+        self.cell = start_cell(stage.target, mesh)
+        self.entering = self.problem.size
+        self._labels = {}
+
+    # ----------------------------------------------------------------- helpers
+
+    def _check_room(self, room_index: object, choices: tuple[int, ...]) -> None:
+        if not isinstance(room_index, int) or isinstance(room_index, bool):
+            raise InvalidAnswer(f"a room is given by its number, not {room_index!r}")
+        if room_index not in choices:
+            allowed = ", ".join(str(c) for c in choices)
+            raise InvalidAnswer(f"room {room_index} is not one of the offered rooms ({allowed})")
+
+    # ----------------------------------------------------------------- persistence
+
+    def to_json(self) -> str:
+        """The whole walk as JSON text; :meth:`from_json` continues exactly where it was."""
+        pending = None
+        if self.pending is not None:
+            q = self.pending.question
+            pending = {
+                "id": q.id,
+                "member": q.member,
+                "prices": list(q.prices),
+                "choices": list(q.choices),
+                "vertex": list(self.pending.vertex),
+                "seq": self.pending.seq,
+            }
+        data = {
+            "format": FORMAT_NAME,
+            "version": FORMAT_VERSION,
+            "problem": self.problem.to_dict(),
+            "schedule": self.schedule.to_dict(),
+            "stages": [[s.mesh, list(s.target)] for s in self.stages],
+            "cell": {"base": list(self.cell.base), "steps": list(self.cell.steps)},
+            "entering": self.entering,
+            "records": [r.to_list() for r in self.records],
+            "pending": pending,
+            "proposal": self.proposed.to_dict() if self.proposed is not None else None,
+            "next_seq": self.next_seq,
+            "steps": self.steps,
+        }
+        return json.dumps(data, separators=(",", ":"))
+
+    @classmethod
+    def from_json(cls, text: str) -> Walk:
+        """Restore a walk saved by :meth:`to_json`."""
+        try:
+            data = json.loads(text)
+            if data.get("format") != FORMAT_NAME or data.get("version") != FORMAT_VERSION:
+                raise InvalidState(
+                    f"saved walk has format {data.get('format')!r} version "
+                    f"{data.get('version')!r}; this Flatpact reads {FORMAT_NAME} v{FORMAT_VERSION}"
+                )
+            walk = cls._from_data(data)
+        except (KeyError, TypeError, ValueError) as exc:
+            if isinstance(exc, InvalidState):
+                raise
+            raise InvalidState(f"saved walk is damaged and cannot be resumed: {exc}") from exc
+        return walk
+
+    @classmethod
+    def _from_data(cls, data: dict[str, Any]) -> Walk:
+        problem = Problem.from_dict(data["problem"])
+        walk = cls(
+            problem=problem,
+            schedule=Schedule(**data["schedule"]),
+            stages=[Stage(m, tuple(t)) for m, t in data["stages"]],
+            cell=Cell(tuple(data["cell"]["base"]), tuple(data["cell"]["steps"])),
+            entering=data["entering"],
+            next_seq=data["next_seq"],
+            steps=data["steps"],
+        )
+        for item in data["records"]:
+            record = Record.from_list(item)
+            walk.records.append(record)
+            walk._learn(record)
+        if data["pending"] is not None:
+            p = data["pending"]
+            question = Question(p["id"], p["member"], tuple(p["prices"]), tuple(p["choices"]))
+            walk.pending = _Pending(question, tuple(p["vertex"]), p["seq"])
+        if data["proposal"] is not None:
+            walk.proposed = Proposal.from_dict(data["proposal"])
+        stage = walk.stages[-1]
+        check_cell(walk.cell, stage.mesh)
+        return walk
+
+
+# --------------------------------------------------------------------- price helpers
+
+
+def grid_prices(problem: Problem, x: Sequence[int | Fraction], mesh: int) -> tuple[int, ...]:
+    """Prices (minor units, summing to the rent) of the grid point ``x`` at ``mesh``."""
+    shares = [problem.floor + Fraction(problem.budget) * Fraction(xi) / mesh for xi in x]
+    return split_exactly(shares, problem.rent)
+
+
+def target_near(problem: Problem, prices: Sequence[int], mesh: int) -> tuple[int, ...]:
+    """The grid point at ``mesh`` nearest to ``prices``, moved off the floor where needed.
+
+    The start layer needs every target coordinate >= 1 (:func:`solver.labelling.valid_target`);
+    a room at the floor is nudged one step up, paid for by the room with the most steps.
+    """
+    shares = [Fraction((p - problem.floor) * mesh, problem.budget) for p in prices]
+    target = list(split_exactly(shares, mesh))
+    for i, xi in enumerate(target):
+        if xi < 1:
+            richest = max(range(len(target)), key=lambda k: (target[k], -k))
+            target[richest] -= 1 - xi
+            target[i] = 1
+    if not valid_target(target, mesh):
+        raise BrokenInvariant(f"target {target} at mesh {mesh} cannot start a stage")
+    return tuple(target)
+
+
+def _equal_split(problem: Problem) -> tuple[int, ...]:
+    return split_exactly([Fraction(problem.rent, problem.size)] * problem.size, problem.rent)
