@@ -286,6 +286,41 @@ class Walk:
             counts[self.pending.question.member] += 1
         return counts
 
+    def check(self) -> None:
+        """Invariant checker (tests call it after every step; cheap enough to call often).
+
+        The current cell lies in the prism, its facet opposite the entering vertex is a door
+        (all ``n`` rooms as labels), an open question sits on the entering vertex and is asked
+        of that vertex's owner at that vertex's prices, and a proposal is a bijection whose
+        prices sum to the rent and respect the floor.
+        """
+        stage = self.stages[-1]
+        check_cell(self.cell, stage.mesh)
+        if not valid_target(stage.target, stage.mesh):
+            raise BrokenInvariant(f"stage target {stage.target} is not a valid start")
+        vertices = self.cell.vertices()
+        door = [self._label(v) for i, v in enumerate(vertices) if i != self.entering]
+        if self.proposed is None and sorted(lab for lab in door if lab is not None) != list(
+            range(self.problem.size)
+        ):
+            raise BrokenInvariant(f"the facet we entered through is not a door: {door}")
+        if self.pending is not None:
+            vertex = vertices[self.entering]
+            question = self.pending.question
+            if self.pending.vertex != vertex:
+                raise BrokenInvariant("the open question is not at the entering vertex")
+            if question.member != self.problem.members[owner_index(vertex)]:
+                raise BrokenInvariant("the open question is addressed to the wrong member")
+            if question.prices != grid_prices(
+                self.problem, x_from_s(vertex, stage.mesh), stage.mesh
+            ):
+                raise BrokenInvariant("the open question shows the wrong prices")
+        if self.proposed is not None:
+            _check_proposal(self.problem, self.proposed)
+        seqs = [r.seq for r in self.records]
+        if len(seqs) != len(set(seqs)):
+            raise BrokenInvariant("two log entries share a sequence number")
+
     # ----------------------------------------------------------------- the path
 
     def _advance(self) -> None:
@@ -518,6 +553,14 @@ def target_near(problem: Problem, prices: Sequence[int], mesh: int) -> tuple[int
     if not valid_target(target, mesh):
         raise BrokenInvariant(f"target {target} at mesh {mesh} cannot start a stage")
     return tuple(target)
+
+
+def _check_proposal(problem: Problem, proposal: Proposal) -> None:
+    rooms = sorted(proposal.assignment.values())
+    if sorted(proposal.assignment) != sorted(problem.members) or rooms != list(range(problem.size)):
+        raise BrokenInvariant(f"assignment {dict(proposal.assignment)} is not a bijection")
+    if sum(proposal.prices) != problem.rent or min(proposal.prices) < problem.floor:
+        raise BrokenInvariant(f"prices {proposal.prices} break the rent or the floor")
 
 
 def _equal_split(problem: Problem) -> tuple[int, ...]:
