@@ -1,0 +1,1 @@
+"""Tests of the local Bot API stand-in (bot/sandbox)."""
