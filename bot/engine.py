@@ -50,6 +50,7 @@ from bot.messages import (
 )
 from bot.permissions import require_member
 from bot.records import OWN_ANSWER_KINDS, TimerRecord
+from bot.retrying import retry_transient
 from bot.status import StatusFacts, status_of
 from bot.store import Store
 
@@ -64,7 +65,14 @@ class Engine:
         self._walks: WalkCache = {}
 
     async def handle(self, event: Event) -> list[Outgoing]:
-        """Apply ``event`` once; the returned messages are already backed by committed state."""
+        """Apply ``event`` once; the returned messages are already backed by committed state.
+
+        A transaction the database aborted for a passing reason (a dropped PostgreSQL
+        connection) is run again from the start; the idempotency key makes that safe.
+        """
+        return await retry_transient(lambda: self._handle_once(event))
+
+    async def _handle_once(self, event: Event) -> list[Outgoing]:
         now = event.now if isinstance(event, Tick) else self._clock()
         try:
             async with self._store.transaction() as tx:

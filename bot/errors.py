@@ -65,3 +65,12 @@ class IllegalMove(Refusal):
 
 class StorageFault(FlatpactError):
     """The database holds something the engine cannot accept. A bug or damage, never a user's."""
+
+
+class StorageUnavailable(StorageFault):
+    """The database dropped the connection or aborted the transaction for a passing reason.
+
+    Nothing of the transaction was kept, so the caller may run the whole transaction again;
+    the engine does (:mod:`bot.retrying`), which is safe because every event carries an
+    idempotency key that is committed together with its effects.
+    """
