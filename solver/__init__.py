@@ -8,7 +8,7 @@ Pure numerics: standard library and numpy only, no I/O. The public protocol is
 from solver.errors import BrokenInvariant, InvalidAnswer, InvalidProblem, InvalidState, SolverError
 from solver.money import split_exactly
 from solver.problem import Problem
-from solver.walk import Counters, Evidence, Proposal, Question, Schedule, Walk
+from solver.walk import Counters, Evidence, Options, Proposal, Question, Walk
 
 __all__ = [
     "BrokenInvariant",
@@ -17,10 +17,10 @@ __all__ = [
     "InvalidAnswer",
     "InvalidProblem",
     "InvalidState",
+    "Options",
     "Problem",
     "Proposal",
     "Question",
-    "Schedule",
     "SolverError",
     "Walk",
     "split_exactly",

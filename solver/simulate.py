@@ -25,7 +25,7 @@ from dataclasses import dataclass
 from typing import Literal, Protocol
 
 from solver.problem import Problem
-from solver.walk import Proposal, Schedule, Walk
+from solver.walk import Options, Proposal, Walk
 
 Model = Literal["quasi-linear", "budget-capped", "concave"]
 MODELS: tuple[Model, ...] = ("quasi-linear", "budget-capped", "concave")
@@ -169,12 +169,12 @@ def run(
     problem: Problem,
     tenants: Mapping[str, Tenant],
     *,
-    schedule: Schedule | None = None,
+    options: Options | None = None,
     start_prices: Sequence[int] | None = None,
     max_questions: int = 100_000,
 ) -> RunResult:
     """Let ``tenants`` answer every question until the walk proposes a division."""
-    walk = Walk.start(problem, schedule=schedule, start_prices=start_prices)
+    walk = Walk.start(problem, options=options, start_prices=start_prices)
     asked = 0
     while walk.proposal() is None:
         for question in walk.open_questions():

@@ -48,24 +48,35 @@ from solver.money import split_exactly
 from solver.problem import Problem
 from solver.triangulation import Cell, Vertex, check_cell, level, owner_index, top_facet, x_from_s
 
-Source = Literal["asked", "rule", "repeat", "objection"]
+Source = Literal["asked", "rule", "repeat", "implied", "objection"]
 FORMAT_NAME = "flatpact-walk"
 FORMAT_VERSION = 1
 
 
 @dataclass(frozen=True, slots=True)
-class Schedule:
-    """How the walk refines: the first mesh (a multiple of the room count) and the factor."""
+class Options:
+    """Per-round knobs: how the walk refines, and whether it may infer answers from money.
+
+    ``infer_from_money`` assumes that a member's view of a room depends only on that room's
+    price (no externalities) and that cheaper is never worse: then a member who took room
+    ``r`` at prices ``p`` takes ``r`` again wherever ``r`` is no dearer and every other room
+    no cheaper, and we need not ask.
+    """
 
     first_mesh_per_room: int = 2
     factor: int = 4
+    infer_from_money: bool = True
 
     def first_mesh(self, rooms: int, budget: int) -> int:
         """The coarsest mesh: at least ``rooms + 1`` and never finer than one minor unit."""
         return min(max(self.first_mesh_per_room * rooms, rooms + 1), budget)
 
-    def to_dict(self) -> dict[str, int]:
-        return {"first_mesh_per_room": self.first_mesh_per_room, "factor": self.factor}
+    def to_dict(self) -> dict[str, int | bool]:
+        return {
+            "first_mesh_per_room": self.first_mesh_per_room,
+            "factor": self.factor,
+            "infer_from_money": self.infer_from_money,
+        }
 
 
 @dataclass(frozen=True, slots=True)
@@ -171,6 +182,7 @@ class Counters:
     asked: int = 0
     inferred: int = 0
     reused: int = 0
+    implied: int = 0
     steps: int = 0
 
 
@@ -186,7 +198,7 @@ class Walk:
     """A resumable envy-free rent-division walk. Create with :meth:`start`."""
 
     problem: Problem
-    schedule: Schedule
+    options: Options
     stages: list[Stage]
     cell: Cell
     entering: int
@@ -196,7 +208,7 @@ class Walk:
     next_seq: int = 1
     steps: int = 0
     _labels: dict[Vertex, int] = field(default_factory=dict, repr=False)
-    _memory: dict[tuple[str, tuple[int, ...]], int] = field(default_factory=dict, repr=False)
+    _memory: dict[str, dict[tuple[int, ...], int]] = field(default_factory=dict, repr=False)
 
     # ----------------------------------------------------------------- public protocol
 
@@ -205,19 +217,19 @@ class Walk:
         cls,
         problem: Problem,
         *,
-        schedule: Schedule | None = None,
+        options: Options | None = None,
         start_prices: Sequence[int] | None = None,
     ) -> Walk:
         """Begin a walk; ``start_prices`` (ints summing to the rent) only steers the start."""
-        schedule = schedule or Schedule()
-        mesh = schedule.first_mesh(problem.size, problem.budget)
+        options = options or Options()
+        mesh = options.first_mesh(problem.size, problem.budget)
         centre = tuple(start_prices) if start_prices is not None else _equal_split(problem)
         if len(centre) != problem.size or sum(centre) != problem.rent:
             raise InvalidAnswer(
                 f"start prices must list {problem.size} amounts that sum to {problem.rent}"
             )
         stage = Stage(mesh, target_near(problem, centre, mesh))
-        walk = cls(problem, schedule, [stage], start_cell(stage.target, mesh), problem.size)
+        walk = cls(problem, options, [stage], start_cell(stage.target, mesh), problem.size)
         walk._advance()
         return walk
 
@@ -272,6 +284,8 @@ class Walk:
                 c.inferred += 1
             elif r.source == "repeat":
                 c.reused += 1
+            elif r.source == "implied":
+                c.implied += 1
         if self.pending is not None:
             c.asked += 1
         return c
@@ -367,9 +381,14 @@ class Walk:
             self._record(member, prices, at_floor[0], "rule", vertex)
             return True
         choices = at_floor or tuple(range(self.problem.size))
-        known = self._memory.get((member, prices))
+        said = self._memory.get(member, {})
+        known = said.get(prices)
         if known is not None and known in choices:
             self._record(member, prices, known, "repeat", vertex)
+            return True
+        implied = _implied_choice(said, prices, choices) if self.options.infer_from_money else None
+        if implied is not None:
+            self._record(member, prices, implied, "implied", vertex)
             return True
         seq = self._take_seq()
         self.pending = _Pending(Question(f"q{seq}", member, prices, choices), vertex, seq)
@@ -400,7 +419,7 @@ class Walk:
         if record.vertex is not None and record.stage == len(self.stages) - 1:
             self._labels[record.vertex] = record.room
         if record.source in ("asked", "objection"):
-            self._memory[(record.member, record.prices)] = record.room
+            self._memory.setdefault(record.member, {})[record.prices] = record.room
 
     # ----------------------------------------------------------------- stages
 
@@ -437,7 +456,7 @@ class Walk:
 
     def _restart(self, centre: tuple[int, ...]) -> None:
         """Start a new Merrill stage at a finer mesh, aimed at ``centre``."""
-        mesh = min(self.stages[-1].mesh * self.schedule.factor, self.problem.budget)
+        mesh = min(self.stages[-1].mesh * self.options.factor, self.problem.budget)
         stage = Stage(mesh, target_near(self.problem, centre, mesh))
         self.stages.append(stage)
         self.cell = start_cell(stage.target, mesh)
@@ -472,7 +491,7 @@ class Walk:
             "format": FORMAT_NAME,
             "version": FORMAT_VERSION,
             "problem": self.problem.to_dict(),
-            "schedule": self.schedule.to_dict(),
+            "options": self.options.to_dict(),
             "stages": [[s.mesh, list(s.target)] for s in self.stages],
             "cell": {"base": list(self.cell.base), "steps": list(self.cell.steps)},
             "entering": self.entering,
@@ -506,7 +525,7 @@ class Walk:
         problem = Problem.from_dict(data["problem"])
         walk = cls(
             problem=problem,
-            schedule=Schedule(**data["schedule"]),
+            options=Options(**data["options"]),
             stages=[Stage(m, tuple(t)) for m, t in data["stages"]],
             cell=Cell(tuple(data["cell"]["base"]), tuple(data["cell"]["steps"])),
             entering=data["entering"],
@@ -553,6 +572,26 @@ def target_near(problem: Problem, prices: Sequence[int], mesh: int) -> tuple[int
     if not valid_target(target, mesh):
         raise BrokenInvariant(f"target {target} at mesh {mesh} cannot start a stage")
     return tuple(target)
+
+
+def _implied_choice(
+    said: Mapping[tuple[int, ...], int], prices: tuple[int, ...], choices: tuple[int, ...]
+) -> int | None:
+    """A room the member must take at ``prices``, by monotonicity in money, if any.
+
+    They took ``r`` at ``p``; at ``prices`` room ``r`` is no dearer and every other room is no
+    cheaper, so (no externalities, cheaper never worse) ``r`` is still their choice.
+    """
+    for earlier, room in said.items():
+        if (
+            room in choices
+            and prices[room] <= earlier[room]
+            and all(
+                q >= p for j, (q, p) in enumerate(zip(prices, earlier, strict=True)) if j != room
+            )
+        ):
+            return room
+    return None
 
 
 def _check_proposal(problem: Problem, proposal: Proposal) -> None:

@@ -13,7 +13,7 @@ from itertools import product
 
 import pytest
 
-from solver import Problem, Schedule, Walk
+from solver import Options, Problem, Walk
 from solver.labelling import floor_rooms
 from solver.triangulation import all_top_cells, x_from_s
 
@@ -32,7 +32,7 @@ def _walk_one_stage(n: int, mesh: int, labelling: Labelling) -> tuple[Walk, list
         members=[f"m{i}" for i in range(n)],
         tolerance=10**9,
     )
-    walk = Walk.start(problem, schedule=Schedule(first_mesh_per_room=mesh))
+    walk = Walk.start(problem, options=Options(first_mesh_per_room=mesh, infer_from_money=False))
     assert walk.stages[-1].mesh == mesh
     while walk.proposal() is None:
         walk.check()

@@ -1,0 +1,234 @@
+"""Benchmark: how many questions a round costs each member (``python -m solver.bench``).
+
+Seeded simulated rounds for n = 2..6 rooms, three tenant models and several tolerances, with
+baselines in the same run: the classical walk on one fixed mesh fine enough for the tolerance
+(no refinement), and our walk with each improvement switched off. Prints a table and, with
+``--json PATH``, writes the raw figures. A benchmark, not a test: nothing here asserts.
+
+Figures per configuration: questions per member (a run's questions divided by its members;
+median / p90 / max over seeds), the busiest member's questions (median), sequential waiting
+rounds (questions that had to wait for the previous answer: all of them, the walk being
+sequential), the share of runs where every simulated tenant's envy is within the tolerance,
+and compute time per question.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import random
+import statistics
+import time
+from collections.abc import Sequence
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import asdict, dataclass
+
+from solver.problem import Problem
+from solver.simulate import (
+    MODELS,
+    BudgetCapped,
+    ConcaveInMoney,
+    Model,
+    QuasiLinear,
+    Tenant,
+    random_tenants,
+)
+from solver.walk import Options, Walk
+from solver.warm_start import WARM_FIRST_MESH_PER_ROOM, start_warm
+
+RENT = 300_000
+AWKWARD_RENT = 123_457
+
+
+@dataclass(frozen=True)
+class Config:
+    """One row of the table."""
+
+    variant: str
+    n: int
+    model: Model
+    rent: int
+    tolerance: int
+    seeds: int
+    options: Options
+    warm_noise: float | None = None
+
+
+@dataclass(frozen=True)
+class Row:
+    variant: str
+    n: int
+    model: str
+    rent: int
+    tolerance: int
+    runs: int
+    per_member_median: float
+    per_member_p90: float
+    per_member_max: float
+    busiest_median: float
+    waiting_median: float
+    within_tolerance: float
+    ms_per_question: float
+
+
+def _one_run(config: Config, seed: int) -> tuple[float, int, int, bool, float]:
+    problem = Problem(
+        rent=config.rent,
+        rooms=tuple(f"r{i}" for i in range(config.n)),
+        members=tuple(f"m{i}" for i in range(config.n)),
+        tolerance=config.tolerance,
+    )
+    tenants = random_tenants(problem, config.model, seed)
+    started = time.perf_counter()
+    if config.warm_noise is None:
+        walk = Walk.start(problem, options=config.options)
+    else:
+        rough = rough_values(tenants, problem.members, config.warm_noise, seed)
+        walk = start_warm(problem, rough, config.options)
+    while (proposal := walk.proposal()) is None:
+        for q in walk.open_questions():
+            walk.answer(q.id, tenants[q.member].choose(q.prices, q.choices, problem.floor))
+    elapsed = time.perf_counter() - started
+    asked = walk.counters.asked
+    busiest = max(walk.questions_per_member().values())
+    fair = all(
+        tenants[m].envy(proposal.prices, r) <= config.tolerance + 1e-6
+        for m, r in proposal.assignment.items()
+    )
+    return asked / config.n, busiest, asked, fair, elapsed / max(asked, 1)
+
+
+def rough_values(
+    tenants: dict[str, Tenant], members: Sequence[str], noise: float, seed: int
+) -> list[list[float]]:
+    """Each tenant's values with multiplicative noise in [1 - noise, 1 + noise] (seeded)."""
+    rng = random.Random(f"rough:{seed}")
+    rough = []
+    for m in members:
+        tenant = tenants[m]
+        if not isinstance(tenant, QuasiLinear | BudgetCapped | ConcaveInMoney):
+            raise TypeError(f"{type(tenant).__name__} has no values to be rough about")
+        rough.append([v * rng.uniform(1 - noise, 1 + noise) for v in tenant.values])
+    return rough
+
+
+def _percentile(values: Sequence[float], q: float) -> float:
+    ordered = sorted(values)
+    return ordered[min(len(ordered) - 1, int(q * len(ordered)))]
+
+
+def measure(config: Config) -> Row:
+    """Run ``config.seeds`` seeded rounds and summarise them."""
+    runs = [_one_run(config, seed) for seed in range(config.seeds)]
+    per_member = [r[0] for r in runs]
+    return Row(
+        variant=config.variant,
+        n=config.n,
+        model=config.model,
+        rent=config.rent,
+        tolerance=config.tolerance,
+        runs=len(runs),
+        per_member_median=statistics.median(per_member),
+        per_member_p90=_percentile(per_member, 0.9),
+        per_member_max=max(per_member),
+        busiest_median=statistics.median(r[1] for r in runs),
+        waiting_median=statistics.median(r[2] for r in runs),
+        within_tolerance=sum(r[3] for r in runs) / len(runs),
+        ms_per_question=1000 * statistics.median(r[4] for r in runs),
+    )
+
+
+def fixed_mesh(rent: int, tolerance: int, n: int) -> Options:
+    """The classical walk: one stage on a mesh whose spacing is a third of the tolerance."""
+    mesh = -(-3 * rent // tolerance)
+    return Options(first_mesh_per_room=-(-mesh // n), infer_from_money=False)
+
+
+def configs(seeds: int, quick: bool) -> list[Config]:
+    """The benchmark plan (``quick`` trims it for a smoke run)."""
+    ours = Options()
+    plain = Options(infer_from_money=False)
+    sizes = range(2, 7) if not quick else (3, 4)
+    out: list[Config] = []
+    for n in sizes:
+        for model in MODELS:
+            for tolerance in (100, 500):
+                s = seeds if model == "quasi-linear" and tolerance == 100 else max(seeds // 4, 5)
+                out.append(Config("ours", n, model, RENT, tolerance, s, ours))
+        out.append(Config("ours", n, "quasi-linear", AWKWARD_RENT, 100, max(seeds // 4, 5), ours))
+        out.append(Config("no inference", n, "quasi-linear", RENT, 100, seeds, plain))
+        warm = Options(first_mesh_per_room=WARM_FIRST_MESH_PER_ROOM)
+        out.append(Config("warm start", n, "quasi-linear", RENT, 100, seeds, warm, 0.1))
+        out.append(Config("warm start", n, "concave", RENT, 100, max(seeds // 4, 5), warm, 0.1))
+        for first in (8, 32):
+            out.append(
+                Config(
+                    f"warm start, first mesh {first}n",
+                    n,
+                    "quasi-linear",
+                    RENT,
+                    100,
+                    max(seeds // 4, 5),
+                    Options(first_mesh_per_room=first),
+                    0.1,
+                )
+            )
+        for factor in (2, 3, n + 1, 8):
+            tuned = Options(factor=factor)
+            out.append(
+                Config(f"factor {factor}", n, "quasi-linear", RENT, 100, max(seeds // 4, 5), tuned)
+            )
+        if 3 <= n <= 5:  # n = 6 on a fixed mesh takes hours of simulated questions
+            classic_seeds = 3 if n <= 4 else 1
+            out.append(
+                Config(
+                    "fixed mesh",
+                    n,
+                    "quasi-linear",
+                    RENT,
+                    100,
+                    classic_seeds,
+                    fixed_mesh(RENT, 100, n),
+                )
+            )
+    return out
+
+
+def render(rows: Sequence[Row]) -> str:
+    """A Markdown table (the README pastes it)."""
+    head = (
+        "| variant | n | tenants | rent | tol | runs | q/member median | p90 | max "
+        "| busiest median | waiting median | envy within tol | ms/question |"
+    )
+    lines = [head, "|" + " --- |" * 13]
+    for r in rows:
+        lines.append(
+            f"| {r.variant} | {r.n} | {r.model} | {r.rent / 100:.2f} | {r.tolerance / 100:.2f} "
+            f"| {r.runs} | {r.per_member_median:.1f} | {r.per_member_p90:.1f} "
+            f"| {r.per_member_max:.1f} | {r.busiest_median:.0f} | {r.waiting_median:.0f} "
+            f"| {100 * r.within_tolerance:.0f}% | {r.ms_per_question:.2f} |"
+        )
+    return "\n".join(lines)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--seeds", type=int, default=200, help="seeds for the headline rows")
+    parser.add_argument("--quick", action="store_true", help="a small smoke run")
+    parser.add_argument("--json", metavar="PATH", help="also write the rows as JSON")
+    parser.add_argument("--workers", type=int, default=2)
+    args = parser.parse_args(argv)
+    plan = configs(args.seeds, args.quick)
+    started = time.perf_counter()
+    with ProcessPoolExecutor(max_workers=args.workers) as pool:
+        rows = list(pool.map(measure, plan))
+    print(render(rows))
+    print(f"\n{len(plan)} configurations in {time.perf_counter() - started:.0f} s")
+    if args.json:
+        with open(args.json, "w", encoding="utf-8") as fh:
+            json.dump([asdict(r) for r in rows], fh, indent=1)
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
