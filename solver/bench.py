@@ -7,8 +7,8 @@ baselines in the same run: the classical walk on one fixed mesh fine enough for 
 
 Figures per configuration: questions per member (a run's questions divided by its members;
 median / p90 / max over seeds), the busiest member's questions (median), sequential waiting
-rounds (questions that had to wait for the previous answer: all of them, the walk being
-sequential), the share of runs where every simulated tenant's envy is within the tolerance,
+rounds (batches of questions answered in parallel; without look-ahead every question is its
+own round), the share of runs where every simulated tenant's envy is within the tolerance,
 and compute time per question.
 """
 
@@ -31,6 +31,7 @@ from solver.simulate import (
     Model,
     QuasiLinear,
     Tenant,
+    answer_until_proposal,
     random_tenants,
 )
 from solver.walk import Options, Walk
@@ -71,7 +72,7 @@ class Row:
     ms_per_question: float
 
 
-def _one_run(config: Config, seed: int) -> tuple[float, int, int, bool, float]:
+def _one_run(config: Config, seed: int) -> tuple[float, int, int, bool, float, int]:
     problem = Problem(
         rent=config.rent,
         rooms=tuple(f"r{i}" for i in range(config.n)),
@@ -85,17 +86,17 @@ def _one_run(config: Config, seed: int) -> tuple[float, int, int, bool, float]:
     else:
         rough = rough_values(tenants, problem.members, config.warm_noise, seed)
         walk = start_warm(problem, rough, config.options)
-    while (proposal := walk.proposal()) is None:
-        for q in walk.open_questions():
-            walk.answer(q.id, tenants[q.member].choose(q.prices, q.choices, problem.floor))
+    rounds = answer_until_proposal(walk, tenants)
     elapsed = time.perf_counter() - started
+    proposal = walk.proposal()
+    assert proposal is not None
     asked = walk.counters.asked
     busiest = max(walk.questions_per_member().values())
     fair = all(
         tenants[m].envy(proposal.prices, r) <= config.tolerance + 1e-6
         for m, r in proposal.assignment.items()
     )
-    return asked / config.n, busiest, asked, fair, elapsed / max(asked, 1)
+    return asked / config.n, busiest, rounds, fair, elapsed / max(asked, 1), asked
 
 
 def rough_values(
@@ -157,10 +158,13 @@ def configs(seeds: int, quick: bool) -> list[Config]:
                 out.append(Config("ours", n, model, RENT, tolerance, s, ours))
         out.append(Config("ours", n, "quasi-linear", AWKWARD_RENT, 100, max(seeds // 4, 5), ours))
         out.append(Config("no inference", n, "quasi-linear", RENT, 100, seeds, plain))
+        out.append(
+            Config("look ahead", n, "quasi-linear", RENT, 100, seeds, Options(look_ahead=True))
+        )
         warm = Options(first_mesh_per_room=WARM_FIRST_MESH_PER_ROOM)
         out.append(Config("warm start", n, "quasi-linear", RENT, 100, seeds, warm, 0.1))
         out.append(Config("warm start", n, "concave", RENT, 100, max(seeds // 4, 5), warm, 0.1))
-        for first in (8, 32):
+        for first in (8, 32):  # warm start's first mesh per room
             out.append(
                 Config(
                     f"warm start, first mesh {first}n",
@@ -173,7 +177,7 @@ def configs(seeds: int, quick: bool) -> list[Config]:
                     0.1,
                 )
             )
-        for factor in (2, 3, n + 1, 8):
+        for factor in (2, 3, 4, n + 1, 8):
             tuned = Options(factor=factor)
             out.append(
                 Config(f"factor {factor}", n, "quasi-linear", RENT, 100, max(seeds // 4, 5), tuned)

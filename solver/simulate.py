@@ -163,6 +163,7 @@ class RunResult:
     walk: Walk
     questions_per_member: Mapping[str, int]
     envy: Mapping[str, float]
+    waiting_rounds: int
 
 
 def run(
@@ -175,16 +176,32 @@ def run(
 ) -> RunResult:
     """Let ``tenants`` answer every question until the walk proposes a division."""
     walk = Walk.start(problem, options=options, start_prices=start_prices)
-    asked = 0
-    while walk.proposal() is None:
-        for question in walk.open_questions():
-            tenant = tenants[question.member]
-            room = tenant.choose(question.prices, question.choices, problem.floor)
-            walk.answer(question.id, room)
-            asked += 1
-        if asked > max_questions:
-            raise RuntimeError(f"simulated round exceeded {max_questions} questions")
+    rounds = answer_until_proposal(walk, tenants, max_questions=max_questions)
     proposal = walk.proposal()
     assert proposal is not None
     envy = {m: tenants[m].envy(proposal.prices, r) for m, r in proposal.assignment.items()}
-    return RunResult(proposal, walk, walk.questions_per_member(), envy)
+    return RunResult(proposal, walk, walk.questions_per_member(), envy, rounds)
+
+
+def answer_until_proposal(
+    walk: Walk, tenants: Mapping[str, Tenant], *, max_questions: int = 100_000
+) -> int:
+    """Answer in *waiting rounds*: everyone with an open question answers, then the walk moves.
+
+    Look-ahead questions are answered before the walk's own question of the round (people
+    answer in parallel; the order within a round does not matter to them, but answering the
+    walk's question first would withdraw the guesses before they count). Returns the number
+    of rounds.
+    """
+    rounds = 0
+    floor = walk.problem.floor
+    while walk.proposal() is None:
+        rounds += 1
+        batch = walk.open_questions()
+        for question in reversed(batch):
+            if question in walk.open_questions():
+                tenant = tenants[question.member]
+                walk.answer(question.id, tenant.choose(question.prices, question.choices, floor))
+        if walk.counters.asked > max_questions:
+            raise RuntimeError(f"simulated round exceeded {max_questions} questions")
+    return rounds

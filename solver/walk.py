@@ -61,21 +61,35 @@ class Options:
     price (no externalities) and that cheaper is never worse: then a member who took room
     ``r`` at prices ``p`` takes ``r`` again wherever ``r`` is no dearer and every other room
     no cheaper, and we need not ask.
+
+    ``look_ahead`` lets idle members answer in parallel: while one member's question is open,
+    the walk guesses that member's answer (their most recent room) and asks the owner of the
+    vertex the walk would reach next. A right guess saves a waiting round; a wrong one costs a
+    question, and the unanswered guess is withdrawn.
     """
 
-    first_mesh_per_room: int = 2
-    factor: int = 4
+    first_mesh_per_room: int = 4
+    factor: int | None = None
     infer_from_money: bool = True
+    look_ahead: bool = False
+
+    def refinement_factor(self, rooms: int) -> int:
+        """How much finer each restart is: 4 up to four rooms, 3 above (measured best with
+        ``python -m solver.bench``: a stage's path grows with the factor and the room count)."""
+        if self.factor is not None:
+            return self.factor
+        return 4 if rooms <= 4 else 3
 
     def first_mesh(self, rooms: int, budget: int) -> int:
         """The coarsest mesh: at least ``rooms + 1`` and never finer than one minor unit."""
         return min(max(self.first_mesh_per_room * rooms, rooms + 1), budget)
 
-    def to_dict(self) -> dict[str, int | bool]:
+    def to_dict(self) -> dict[str, int | bool | None]:
         return {
             "first_mesh_per_room": self.first_mesh_per_room,
             "factor": self.factor,
             "infer_from_money": self.infer_from_money,
+            "look_ahead": self.look_ahead,
         }
 
 
@@ -188,9 +202,27 @@ class Counters:
 
 @dataclass(slots=True)
 class _Pending:
+    """An open question and the vertex whose label it will be."""
+
     question: Question
     vertex: Vertex
     seq: int
+
+    def to_dict(self) -> dict[str, Any]:
+        q = self.question
+        return {
+            "id": q.id,
+            "member": q.member,
+            "prices": list(q.prices),
+            "choices": list(q.choices),
+            "vertex": list(self.vertex),
+            "seq": self.seq,
+        }
+
+    @classmethod
+    def from_dict(cls, p: dict[str, Any]) -> _Pending:
+        question = Question(p["id"], p["member"], tuple(p["prices"]), tuple(p["choices"]))
+        return cls(question, tuple(p["vertex"]), p["seq"])
 
 
 @dataclass
@@ -204,11 +236,13 @@ class Walk:
     entering: int
     records: list[Record] = field(default_factory=list)
     pending: _Pending | None = None
+    ahead: dict[str, _Pending] = field(default_factory=dict)
     proposed: Proposal | None = None
     next_seq: int = 1
     steps: int = 0
     _labels: dict[Vertex, int] = field(default_factory=dict, repr=False)
     _memory: dict[str, dict[tuple[int, ...], int]] = field(default_factory=dict, repr=False)
+    _last_room: dict[str, int] = field(default_factory=dict, repr=False)
 
     # ----------------------------------------------------------------- public protocol
 
@@ -231,25 +265,39 @@ class Walk:
         stage = Stage(mesh, target_near(problem, centre, mesh))
         walk = cls(problem, options, [stage], start_cell(stage.target, mesh), problem.size)
         walk._advance()
+        walk._look_ahead()
         return walk
 
     def open_questions(self) -> list[Question]:
-        """Questions waiting for an answer (at most one: the walk is sequential)."""
-        return [self.pending.question] if self.pending is not None else []
+        """Questions waiting for an answer: the walk's own, then any look-ahead questions."""
+        main = [self.pending.question] if self.pending is not None else []
+        return main + [p.question for p in sorted(self.ahead.values(), key=lambda p: p.seq)]
 
     def answer(self, question_id: str, room_index: int) -> None:
-        """Record an answer and advance; bad input raises and changes nothing."""
+        """Record an answer and advance; bad input raises and changes nothing.
+
+        A question that was withdrawn (a look-ahead guess that turned out wrong) or answered
+        already is "not open"; the caller should tell the member it is no longer needed.
+        """
         pending = self.pending
-        if pending is None or pending.question.id != question_id:
+        if pending is not None and pending.question.id == question_id:
+            self._check_room(room_index, pending.question.choices)
+            self.pending = None
+            q = pending.question
+            self._record(q.member, q.prices, room_index, "asked", pending.vertex, pending.seq)
+            self._advance()
+        elif question_id in self.ahead:
+            early = self.ahead[question_id]
+            self._check_room(room_index, early.question.choices)
+            del self.ahead[question_id]
+            q = early.question
+            self._record(q.member, q.prices, room_index, "asked", None, early.seq)
+        else:
             raise InvalidAnswer(
-                f"question {question_id!r} is not open (it was answered already, "
+                f"question {question_id!r} is not open (it was answered already, withdrawn "
                 "or never asked); answer one of the open questions instead"
             )
-        self._check_room(room_index, pending.question.choices)
-        self.pending = None
-        q = pending.question
-        self._record(q.member, q.prices, room_index, "asked", pending.vertex, pending.seq)
-        self._advance()
+        self._look_ahead()
 
     def proposal(self) -> Proposal | None:
         """The proposed division once the walk has found one, else ``None``."""
@@ -272,6 +320,7 @@ class Walk:
         self.proposed = None
         self._restart(proposal.prices)
         self._advance()
+        self._look_ahead()
 
     @property
     def counters(self) -> Counters:
@@ -286,8 +335,7 @@ class Walk:
                 c.reused += 1
             elif r.source == "implied":
                 c.implied += 1
-        if self.pending is not None:
-            c.asked += 1
+        c.asked += (self.pending is not None) + len(self.ahead)
         return c
 
     def questions_per_member(self) -> dict[str, int]:
@@ -296,8 +344,8 @@ class Walk:
         for r in self.records:
             if r.source == "asked":
                 counts[r.member] += 1
-        if self.pending is not None:
-            counts[self.pending.question.member] += 1
+        for open_question in self.open_questions():
+            counts[open_question.member] += 1
         return counts
 
     def check(self) -> None:
@@ -331,6 +379,9 @@ class Walk:
                 raise BrokenInvariant("the open question shows the wrong prices")
         if self.proposed is not None:
             _check_proposal(self.problem, self.proposed)
+        askees = [q.member for q in self.open_questions()]
+        if len(askees) != len(set(askees)):
+            raise BrokenInvariant(f"a member has two open questions: {askees}")
         seqs = [r.seq for r in self.records]
         if len(seqs) != len(set(seqs)):
             raise BrokenInvariant("two log entries share a sequence number")
@@ -345,22 +396,25 @@ class Walk:
                 vertices[self.entering]
             ):
                 return
-            labels = [self._label(v) for v in vertices]
-            twins = [i for i, lab in enumerate(labels) if lab == labels[self.entering]]
-            if len(twins) != 2 or len(set(labels)) != self.problem.size:
-                raise BrokenInvariant(f"cell {self.cell} with labels {labels} is not a door pair")
-            drop = twins[0] if twins[1] == self.entering else twins[1]
+            drop = self._exit(self.cell, self.entering, [self._label(v) for v in vertices])
             exit_facet = [v for i, v in enumerate(vertices) if i != drop]
             if top_facet(exit_facet):
                 self._finish_stage(exit_facet)
                 continue
             self._pivot(drop)
 
+    def _exit(self, cell: Cell, entering: int, labels: Sequence[int | None]) -> int:
+        """The vertex to drop: the older of the two vertices sharing the entering label."""
+        twins = [i for i, lab in enumerate(labels) if lab == labels[entering]]
+        if len(twins) != 2 or len(set(labels)) != self.problem.size or None in labels:
+            raise BrokenInvariant(f"cell {cell} with labels {labels} is not a door pair")
+        return twins[0] if twins[1] == entering else twins[1]
+
     def _pivot(self, drop: int) -> None:
         mesh = self.stages[-1].mesh
         self.cell = self.cell.pivot(drop)
         check_cell(self.cell, mesh)
-        self.entering = {0: self.problem.size, self.problem.size: 0}.get(drop, drop)
+        self.entering = _entering_after(drop, self.problem.size)
         self.steps += 1
 
     def _label(self, vertex: Vertex) -> int | None:
@@ -370,29 +424,83 @@ class Walk:
             return start_label(x_from_s(vertex, stage.mesh), stage.target)
         return self._labels.get(vertex)
 
-    def _ask_or_infer(self, vertex: Vertex) -> bool:
-        """Label a level-1 vertex without asking if possible; otherwise open a question."""
+    def _question_at(self, vertex: Vertex) -> tuple[str, tuple[int, ...], tuple[int, ...]]:
+        """Who would be asked at a level-1 vertex, at which prices, offered which rooms."""
         stage = self.stages[-1]
         x = x_from_s(vertex, stage.mesh)
-        member = self.problem.members[owner_index(vertex)]
-        prices = grid_prices(self.problem, x, stage.mesh)
         at_floor = floor_rooms(x)
-        if len(at_floor) == 1:
-            self._record(member, prices, at_floor[0], "rule", vertex)
-            return True
         choices = at_floor or tuple(range(self.problem.size))
+        member = self.problem.members[owner_index(vertex)]
+        return member, grid_prices(self.problem, x, stage.mesh), choices
+
+    def _answer_without_asking(self, vertex: Vertex) -> tuple[int, Source] | None:
+        """The label of a level-1 vertex if the rule, a repeat or monotonicity decides it."""
+        member, prices, choices = self._question_at(vertex)
+        if len(choices) == 1:
+            return choices[0], "rule"
         said = self._memory.get(member, {})
         known = said.get(prices)
         if known is not None and known in choices:
-            self._record(member, prices, known, "repeat", vertex)
-            return True
+            return known, "repeat"
         implied = _implied_choice(said, prices, choices) if self.options.infer_from_money else None
-        if implied is not None:
-            self._record(member, prices, implied, "implied", vertex)
+        return (implied, "implied") if implied is not None else None
+
+    def _ask_or_infer(self, vertex: Vertex) -> bool:
+        """Label a level-1 vertex without asking if possible; otherwise open a question."""
+        member, prices, choices = self._question_at(vertex)
+        free = self._answer_without_asking(vertex)
+        if free is not None:
+            self._record(member, prices, free[0], free[1], vertex)
             return True
+        early = next((p for p in self.ahead.values() if p.question.member == member), None)
+        if early is not None:
+            del self.ahead[early.question.id]
+            if early.question.prices == prices:  # the look-ahead guessed right: promote it
+                self.pending = _Pending(early.question, vertex, early.seq)
+                return False
         seq = self._take_seq()
         self.pending = _Pending(Question(f"q{seq}", member, prices, choices), vertex, seq)
         return False
+
+    def _look_ahead(self) -> None:
+        """Keep at most one look-ahead question open: at the vertex after the guessed answer."""
+        guess = self._guess_next() if self.options.look_ahead else None
+        for qid, early in list(self.ahead.items()):
+            if guess is None or early.vertex != guess:
+                del self.ahead[qid]  # withdrawn: the walk will not go there next
+        if guess is None or any(p.vertex == guess for p in self.ahead.values()):
+            return
+        member, prices, choices = self._question_at(guess)
+        seq = self._take_seq()
+        self.ahead[f"q{seq}"] = _Pending(Question(f"q{seq}", member, prices, choices), guess, seq)
+
+    def _guess_next(self) -> Vertex | None:
+        """The next vertex needing a question if the open question gets its likely answer."""
+        pending = self.pending
+        if pending is None:
+            return None
+        guess = self._last_room.get(pending.question.member)
+        if guess is None or guess not in pending.question.choices:
+            return None
+        assumed = {pending.vertex: guess}
+        cell, entering = self.cell, self.entering
+        for _ in range(8 * self.problem.size):  # a few free steps at most, then give up
+            vertices = cell.vertices()
+            labels: list[int | None] = []
+            for v in vertices:
+                label = assumed.get(v, self._label(v))
+                if label is None:
+                    free = self._answer_without_asking(v)
+                    label = free[0] if free is not None else None
+                labels.append(label)
+            if labels[entering] is None:
+                member = self.problem.members[owner_index(vertices[entering])]
+                return vertices[entering] if member != pending.question.member else None
+            drop = self._exit(cell, entering, labels)
+            if top_facet([v for i, v in enumerate(vertices) if i != drop]):
+                return None
+            cell, entering = cell.pivot(drop), _entering_after(drop, self.problem.size)
+        return None
 
     def _take_seq(self) -> int:
         seq = self.next_seq
@@ -420,6 +528,7 @@ class Walk:
             self._labels[record.vertex] = record.room
         if record.source in ("asked", "objection"):
             self._memory.setdefault(record.member, {})[record.prices] = record.room
+            self._last_room[record.member] = record.room
 
     # ----------------------------------------------------------------- stages
 
@@ -456,7 +565,10 @@ class Walk:
 
     def _restart(self, centre: tuple[int, ...]) -> None:
         """Start a new Merrill stage at a finer mesh, aimed at ``centre``."""
-        mesh = min(self.stages[-1].mesh * self.options.factor, self.problem.budget)
+        mesh = min(
+            self.stages[-1].mesh * self.options.refinement_factor(self.problem.size),
+            self.problem.budget,
+        )
         stage = Stage(mesh, target_near(self.problem, centre, mesh))
         self.stages.append(stage)
         self.cell = start_cell(stage.target, mesh)
@@ -476,17 +588,6 @@ class Walk:
 
     def to_json(self) -> str:
         """The whole walk as JSON text; :meth:`from_json` continues exactly where it was."""
-        pending = None
-        if self.pending is not None:
-            q = self.pending.question
-            pending = {
-                "id": q.id,
-                "member": q.member,
-                "prices": list(q.prices),
-                "choices": list(q.choices),
-                "vertex": list(self.pending.vertex),
-                "seq": self.pending.seq,
-            }
         data = {
             "format": FORMAT_NAME,
             "version": FORMAT_VERSION,
@@ -496,7 +597,8 @@ class Walk:
             "cell": {"base": list(self.cell.base), "steps": list(self.cell.steps)},
             "entering": self.entering,
             "records": [r.to_list() for r in self.records],
-            "pending": pending,
+            "pending": self.pending.to_dict() if self.pending is not None else None,
+            "ahead": [p.to_dict() for p in self.ahead.values()],
             "proposal": self.proposed.to_dict() if self.proposed is not None else None,
             "next_seq": self.next_seq,
             "steps": self.steps,
@@ -537,9 +639,10 @@ class Walk:
             walk.records.append(record)
             walk._learn(record)
         if data["pending"] is not None:
-            p = data["pending"]
-            question = Question(p["id"], p["member"], tuple(p["prices"]), tuple(p["choices"]))
-            walk.pending = _Pending(question, tuple(p["vertex"]), p["seq"])
+            walk.pending = _Pending.from_dict(data["pending"])
+        for item in data["ahead"]:
+            early = _Pending.from_dict(item)
+            walk.ahead[early.question.id] = early
         if data["proposal"] is not None:
             walk.proposed = Proposal.from_dict(data["proposal"])
         stage = walk.stages[-1]
@@ -572,6 +675,11 @@ def target_near(problem: Problem, prices: Sequence[int], mesh: int) -> tuple[int
     if not valid_target(target, mesh):
         raise BrokenInvariant(f"target {target} at mesh {mesh} cannot start a stage")
     return tuple(target)
+
+
+def _entering_after(drop: int, size: int) -> int:
+    """Where the new vertex sits after Kuhn's pivot drops vertex ``drop`` of a ``size``-cell."""
+    return {0: size, size: 0}.get(drop, drop)
 
 
 def _implied_choice(
