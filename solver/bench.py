@@ -215,6 +215,37 @@ def render(rows: Sequence[Row]) -> str:
     return "\n".join(lines)
 
 
+def rerun_questions(seed: int, reuse: bool) -> float:
+    """Questions per staying member when one of four members is replaced and the round re-run."""
+    rooms = ("r0", "r1", "r2", "r3")
+    before = Problem(rent=RENT, rooms=rooms, members=("a", "b", "c", "d"))
+    after = Problem(rent=RENT, rooms=rooms, members=("a", "b", "c", "e"))
+    tenants = random_tenants(before, "quasi-linear", seed)
+    tenants["e"] = random_tenants(after, "quasi-linear", seed + 10_000)["e"]
+    first = Walk.start(before)
+    answer_until_proposal(first, tenants)
+    earlier = {
+        m: [(r.prices, r.room) for r in first.records if r.member == m and r.source == "asked"]
+        for m in ("a", "b", "c")
+    }
+    second = Walk.start(after, earlier=earlier if reuse else None)
+    answer_until_proposal(second, tenants)
+    asked = second.questions_per_member()
+    return (asked["a"] + asked["b"] + asked["c"]) / 3
+
+
+def rerun_report(seeds: int) -> str:
+    """One line: what reusing staying members' answers saves in a re-run after a move."""
+    fresh = [rerun_questions(s, reuse=False) for s in range(seeds)]
+    reused = [rerun_questions(s, reuse=True) for s in range(seeds)]
+    return (
+        f"Re-run after one of four members moves out ({seeds} seeds, tolerance 1.00 on "
+        f"3000.00): questions per staying member, median {statistics.median(fresh):.1f} fresh "
+        f"vs {statistics.median(reused):.1f} reusing earlier answers (mean "
+        f"{statistics.mean(fresh):.2f} vs {statistics.mean(reused):.2f})."
+    )
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--seeds", type=int, default=200, help="seeds for the headline rows")
@@ -227,6 +258,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     with ProcessPoolExecutor(max_workers=args.workers) as pool:
         rows = list(pool.map(measure, plan))
     print(render(rows))
+    print()
+    print(rerun_report(args.seeds // 4 if not args.quick else 10))
     print(f"\n{len(plan)} configurations in {time.perf_counter() - started:.0f} s")
     if args.json:
         with open(args.json, "w", encoding="utf-8") as fh:

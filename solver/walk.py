@@ -48,7 +48,7 @@ from solver.money import split_exactly
 from solver.problem import Problem
 from solver.triangulation import Cell, Vertex, check_cell, level, owner_index, top_facet, x_from_s
 
-Source = Literal["asked", "rule", "repeat", "implied", "objection"]
+Source = Literal["asked", "rule", "repeat", "implied", "objection", "earlier"]
 FORMAT_NAME = "flatpact-walk"
 FORMAT_VERSION = 1
 
@@ -253,8 +253,16 @@ class Walk:
         *,
         options: Options | None = None,
         start_prices: Sequence[int] | None = None,
+        earlier: Mapping[str, Sequence[tuple[Sequence[int], int]]] | None = None,
     ) -> Walk:
-        """Begin a walk; ``start_prices`` (ints summing to the rent) only steers the start."""
+        """Begin a walk.
+
+        ``start_prices`` (ints summing to the rent) only steers the start. ``earlier`` gives,
+        per staying member, answers from a previous round of the same rooms as
+        ``(prices, room)`` pairs: they are reused where the prices coincide and, with
+        ``infer_from_money``, wherever monotonicity in money decides (a room that got no
+        dearer while every other room got no cheaper stays chosen).
+        """
         options = options or Options()
         mesh = options.first_mesh(problem.size, problem.budget)
         centre = tuple(start_prices) if start_prices is not None else _equal_split(problem)
@@ -264,6 +272,8 @@ class Walk:
             )
         stage = Stage(mesh, target_near(problem, centre, mesh))
         walk = cls(problem, options, [stage], start_cell(stage.target, mesh), problem.size)
+        for member, said in (earlier or {}).items():
+            walk._take_earlier(member, said)
         walk._advance()
         walk._look_ahead()
         return walk
@@ -502,6 +512,14 @@ class Walk:
             cell, entering = cell.pivot(drop), _entering_after(drop, self.problem.size)
         return None
 
+    def _take_earlier(self, member: str, said: Sequence[tuple[Sequence[int], int]]) -> None:
+        if member not in self.problem.members:
+            raise InvalidAnswer(f"earlier answers name {member!r}, who is not in this round")
+        for prices, room in said:
+            if len(prices) != self.problem.size or not 0 <= room < self.problem.size:
+                raise InvalidAnswer(f"an earlier answer of {member!r} does not fit these rooms")
+            self._record(member, tuple(prices), room, "earlier", None)
+
     def _take_seq(self) -> int:
         seq = self.next_seq
         self.next_seq += 1
@@ -526,7 +544,7 @@ class Walk:
     def _learn(self, record: Record) -> None:
         if record.vertex is not None and record.stage == len(self.stages) - 1:
             self._labels[record.vertex] = record.room
-        if record.source in ("asked", "objection"):
+        if record.source in ("asked", "objection", "earlier"):
             self._memory.setdefault(record.member, {})[record.prices] = record.room
             self._last_room[record.member] = record.room
 
