@@ -19,7 +19,6 @@ from __future__ import annotations
 import json
 
 from bot import asking, deadlines, lifecycle
-from bot.outbox_codec import encode
 from bot.clock import Clock
 from bot.context import Context, EngineConfig, WalkCache
 from bot.errors import NotAllowed, Refusal, StaleAction
@@ -48,6 +47,7 @@ from bot.messages import (
     Recipient,
     RefusalFacts,
 )
+from bot.outbox_codec import encode
 from bot.permissions import require_member
 from bot.records import OWN_ANSWER_KINDS, TimerRecord
 from bot.retrying import retry_transient

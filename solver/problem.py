@@ -11,6 +11,8 @@ from typing import Any
 
 from solver.errors import InvalidProblem
 
+#: Placeholders for empty rooms start with a character no member name may contain.
+PLACEHOLDER = "\x00empty-"
 MIN_ROOMS = 2
 MAX_ROOMS = 10
 MAX_NAME_LENGTH = 40
@@ -44,13 +46,30 @@ class Problem:
 
     @property
     def size(self) -> int:
-        """Number of rooms (equal to the number of members)."""
+        """Number of rooms (at least the number of members)."""
         return len(self.rooms)
 
     @property
+    def empty_count(self) -> int:
+        """How many rooms will stay empty (rooms minus members)."""
+        return len(self.rooms) - len(self.members)
+
+    @property
+    def agents(self) -> tuple[str, ...]:
+        """Members, then one placeholder per room that stays empty (see :func:`is_placeholder`).
+
+        With more rooms than members the walk lets placeholders "take" the rooms that stay
+        empty: a placeholder always takes the cheapest room, so in the final cell the empty
+        rooms are the cheapest ones (the reduction to equal numbers by fictitious agents with
+        no preferences, as in Alkan, Demange & Gale, "Fair allocation of indivisible goods and
+        money and criteria of justice", Econometrica 59, 1991).
+        """
+        return self.members + tuple(f"{PLACEHOLDER}{k}" for k in range(self.empty_count))
+
+    @property
     def budget(self) -> int:
-        """The part of the rent above the floors: ``rent - n * floor`` (always > n)."""
-        return self.rent - self.size * self.floor
+        """The part of the rent above the floors: ``rent - members * floor`` (always > rooms)."""
+        return self.rent - len(self.members) * self.floor
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -72,6 +91,11 @@ class Problem:
         )
 
 
+def is_placeholder(agent: str) -> bool:
+    """True for the stand-in agent of a room that stays empty (never a real member)."""
+    return agent.startswith(PLACEHOLDER)
+
+
 def _is_int(value: object) -> bool:
     return isinstance(value, int) and not isinstance(value, bool)
 
@@ -86,21 +110,23 @@ def _validate(p: Problem) -> None:
             f"a round needs {MIN_ROOMS} to {MAX_ROOMS} rooms, not {len(p.rooms)}; "
             "split the flat into two rounds or merge rooms that are let together"
         )
-    if len(p.members) != len(p.rooms):
+    if len(p.members) > len(p.rooms):
         raise InvalidProblem(
             f"there are {len(p.rooms)} rooms but {len(p.members)} members; "
-            "every room needs exactly one member"
+            "every member needs a room of their own: add rooms or split the group"
         )
+    if len(p.members) < MIN_ROOMS:
+        raise InvalidProblem(f"a round needs at least {MIN_ROOMS} members, not {len(p.members)}")
     if not _is_int(p.tolerance) or p.tolerance < MIN_TOLERANCE:
         raise InvalidProblem(
             f"tolerance must be at least {MIN_TOLERANCE} minor units, not {p.tolerance!r}"
         )
     if not _is_int(p.floor):
         raise InvalidProblem(f"floor must be a whole number of minor units, not {p.floor!r}")
-    if p.rent - len(p.rooms) * p.floor <= len(p.rooms):
+    if p.rent - len(p.members) * p.floor <= len(p.rooms):
         raise InvalidProblem(
-            f"the floor {p.floor} is too high for rent {p.rent} with {len(p.rooms)} rooms; "
-            "lower the floor so that the rooms together can cost more than the floors"
+            f"the floor {p.floor} is too high for rent {p.rent} with {len(p.members)} members; "
+            "lower the floor so that the let rooms together can cost more than the floors"
         )
 
 
@@ -108,6 +134,8 @@ def _validate_names(names: tuple[str, ...], what: str) -> None:
     for name in names:
         if not isinstance(name, str) or not name.strip():
             raise InvalidProblem(f"every {what} needs a non-empty name, got {name!r}")
+        if not name.isprintable():
+            raise InvalidProblem(f"{what} name {name!r} contains control characters; remove them")
         if len(name) > MAX_NAME_LENGTH:
             raise InvalidProblem(
                 f"{what} name {name[:20]!r}... is longer than {MAX_NAME_LENGTH} characters; "

@@ -41,11 +41,11 @@ from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Any, Literal
 
-from solver.envy import Choice, best_point, envy_bound
+from solver.envy import Choice, best_point
 from solver.errors import BrokenInvariant, InvalidAnswer, InvalidState
 from solver.labelling import floor_rooms, start_cell, start_label, valid_target
 from solver.money import split_exactly
-from solver.problem import Problem
+from solver.problem import Problem, is_placeholder
 from solver.triangulation import Cell, Vertex, check_cell, level, owner_index, top_facet, x_from_s
 
 Source = Literal["asked", "rule", "repeat", "implied", "objection", "earlier"]
@@ -153,16 +153,22 @@ class Evidence:
 
 @dataclass(frozen=True, slots=True)
 class Proposal:
-    """A division: who takes which room at which price, with the evidence behind it."""
+    """A division: who takes which room at which price, with the evidence behind it.
+
+    ``prices`` lists every room; the let rooms' prices sum exactly to the rent. A room in
+    ``empty_rooms`` is not let: its price is the one at which nobody would rather move there.
+    """
 
     assignment: Mapping[str, int]
     prices: tuple[int, ...]
     evidence: tuple[Evidence, ...]
     envy_bound: int
     mesh: int
+    empty_rooms: tuple[int, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {
+            "empty_rooms": list(self.empty_rooms),
             "assignment": dict(self.assignment),
             "prices": list(self.prices),
             "evidence": [[e.member, e.room, list(e.prices), e.source] for e in self.evidence],
@@ -178,6 +184,7 @@ class Proposal:
             evidence=tuple(Evidence(m, r, tuple(p), s) for m, r, p, s in data["evidence"]),
             envy_bound=data["envy_bound"],
             mesh=data["mesh"],
+            empty_rooms=tuple(data["empty_rooms"]),
         )
 
 
@@ -266,9 +273,14 @@ class Walk:
         options = options or Options()
         mesh = options.first_mesh(problem.size, problem.budget)
         centre = tuple(start_prices) if start_prices is not None else _equal_split(problem)
-        if len(centre) != problem.size or sum(centre) != problem.rent:
+        if (
+            len(centre) != problem.size
+            or min(centre) < problem.floor
+            or (not problem.empty_count and sum(centre) != problem.rent)
+        ):
             raise InvalidAnswer(
-                f"start prices must list {problem.size} amounts that sum to {problem.rent}"
+                f"start prices must list {problem.size} amounts of at least the floor that "
+                f"sum to {problem.rent}"
             )
         stage = Stage(mesh, target_near(problem, centre, mesh))
         walk = cls(problem, options, [stage], start_cell(stage.target, mesh), problem.size)
@@ -349,7 +361,7 @@ class Walk:
         return c
 
     def questions_per_member(self) -> dict[str, int]:
-        """How many questions each member has been asked (the open one included)."""
+        """How many questions each member has been asked (open ones included)."""
         counts = dict.fromkeys(self.problem.members, 0)
         for r in self.records:
             if r.source == "asked":
@@ -381,7 +393,7 @@ class Walk:
             question = self.pending.question
             if self.pending.vertex != vertex:
                 raise BrokenInvariant("the open question is not at the entering vertex")
-            if question.member != self.problem.members[owner_index(vertex)]:
+            if question.member != self.problem.agents[owner_index(vertex)]:
                 raise BrokenInvariant("the open question is addressed to the wrong member")
             if question.prices != grid_prices(
                 self.problem, x_from_s(vertex, stage.mesh), stage.mesh
@@ -440,7 +452,7 @@ class Walk:
         x = x_from_s(vertex, stage.mesh)
         at_floor = floor_rooms(x)
         choices = at_floor or tuple(range(self.problem.size))
-        member = self.problem.members[owner_index(vertex)]
+        member = self.problem.agents[owner_index(vertex)]
         return member, grid_prices(self.problem, x, stage.mesh), choices
 
     def _answer_without_asking(self, vertex: Vertex) -> tuple[int, Source] | None:
@@ -448,6 +460,8 @@ class Walk:
         member, prices, choices = self._question_at(vertex)
         if len(choices) == 1:
             return choices[0], "rule"
+        if is_placeholder(member):  # an empty room's placeholder takes the cheapest room
+            return min(choices, key=lambda j: (prices[j], j)), "rule"
         said = self._memory.get(member, {})
         known = said.get(prices)
         if known is not None and known in choices:
@@ -504,7 +518,7 @@ class Walk:
                     label = free[0] if free is not None else None
                 labels.append(label)
             if labels[entering] is None:
-                member = self.problem.members[owner_index(vertices[entering])]
+                member = self.problem.agents[owner_index(vertices[entering])]
                 return vertices[entering] if member != pending.question.member else None
             drop = self._exit(cell, entering, labels)
             if top_facet([v for i, v in enumerate(vertices) if i != drop]):
@@ -553,23 +567,26 @@ class Walk:
     def _finish_stage(self, facet: Sequence[Vertex]) -> None:
         stage = self.stages[-1]
         evidence = [self._evidence(v) for v in facet]
-        choices = [Choice(e.member, e.room, e.prices) for e in evidence]
+        members = [e for e in evidence if not is_placeholder(e.member)]
+        empty = tuple(sorted(e.room for e in evidence if is_placeholder(e.member)))
+        choices = [Choice(e.member, e.room, e.prices) for e in members]
+        points = [x_from_s(v, stage.mesh) for v in facet]
         centre = tuple(
-            sum((Fraction(v) for v in coord), Fraction(0)) / len(facet)
-            for coord in zip(*(x_from_s(v, stage.mesh) for v in facet), strict=True)
+            sum((Fraction(c) for c in coord), Fraction(0)) / len(points)
+            for coord in zip(*points, strict=True)
         )
-        candidates = [grid_prices(self.problem, centre, stage.mesh)]
-        candidates += [e.prices for e in evidence]
+        where: list[Sequence[int | Fraction]] = [centre, *points]
+        candidates = [settle_prices(self.problem, p, stage.mesh, empty) for p in where]
         point, bound = best_point(choices, candidates)
         if bound <= self.problem.tolerance or stage.mesh >= self.problem.budget:
+            order = self.problem.members
             self.proposed = Proposal(
-                assignment={e.member: e.room for e in evidence},
+                assignment={e.member: e.room for e in members},
                 prices=point,
-                evidence=tuple(
-                    sorted(evidence, key=lambda e: self.problem.members.index(e.member))
-                ),
-                envy_bound=envy_bound(choices, point),
+                evidence=tuple(sorted(members, key=lambda e: order.index(e.member))),
+                envy_bound=bound,
                 mesh=stage.mesh,
+                empty_rooms=empty,
             )
             return
         self._restart(point)
@@ -671,19 +688,64 @@ class Walk:
 # --------------------------------------------------------------------- price helpers
 
 
+def exact_prices(problem: Problem, x: Sequence[int | Fraction], mesh: int) -> list[Fraction]:
+    """Exact prices of the grid point ``x``: ``floor + budget * (x + k * min(x)) / mesh``.
+
+    With as many rooms as members ``k`` is 0 and the prices sum to the rent. With ``e`` rooms
+    more than members, ``k = e / members`` lifts every room by the same amount so that, once
+    the ``e`` cheapest rooms stay empty, the let rooms' prices sum exactly to the rent (the
+    lift pays for the share the empty rooms would have carried). Rooms with ``x == 0`` stay
+    exactly at the floor, so the boundary rule is unchanged.
+    """
+    lift = Fraction(problem.empty_count, len(problem.members)) * min(Fraction(v) for v in x)
+    scale = Fraction(problem.budget, mesh)
+    return [problem.floor + scale * (Fraction(v) + lift) for v in x]
+
+
 def grid_prices(problem: Problem, x: Sequence[int | Fraction], mesh: int) -> tuple[int, ...]:
-    """Prices (minor units, summing to the rent) of the grid point ``x`` at ``mesh``."""
-    shares = [problem.floor + Fraction(problem.budget) * Fraction(xi) / mesh for xi in x]
-    return split_exactly(shares, problem.rent)
+    """Prices in minor units of the grid point ``x`` at ``mesh`` (what a question shows).
+
+    They sum to the rent when every room is let. With empty rooms their total is whatever
+    :func:`exact_prices` gives, cut to a whole number of units; the cut comes off rooms above
+    the floor, so a room at the floor is shown exactly at the floor.
+    """
+    exact = exact_prices(problem, x, mesh)
+    total = sum(exact, Fraction(0))
+    whole = total.numerator // total.denominator
+    above = [i for i, v in enumerate(exact) if v > problem.floor] or list(range(len(exact)))
+    cut = (total - whole) / len(above)
+    return split_exactly([v - cut if i in above else v for i, v in enumerate(exact)], whole)
+
+
+def settle_prices(
+    problem: Problem, x: Sequence[int | Fraction], mesh: int, empty: Sequence[int]
+) -> tuple[int, ...]:
+    """Proposal prices at the grid point ``x``: let rooms sum exactly to the rent.
+
+    Any shortfall of the let rooms (empty rooms a little above the cheapest) is shared
+    equally among them; empty rooms keep their exact price, rounded up (a higher price only
+    makes moving there less tempting).
+    """
+    exact = exact_prices(problem, x, mesh)
+    let = [i for i in range(problem.size) if i not in empty]
+    shortfall = (problem.rent - sum((exact[i] for i in let), Fraction(0))) / len(let)
+    let_prices = split_exactly([exact[i] + shortfall for i in let], problem.rent)
+    prices = [-(-exact[i].numerator // exact[i].denominator) for i in range(problem.size)]
+    for i, price in zip(let, let_prices, strict=True):
+        prices[i] = price
+    return tuple(prices)
 
 
 def target_near(problem: Problem, prices: Sequence[int], mesh: int) -> tuple[int, ...]:
     """The grid point at ``mesh`` nearest to ``prices``, moved off the floor where needed.
 
     The start layer needs every target coordinate >= 1 (:func:`solver.labelling.valid_target`);
-    a room at the floor is nudged one step up, paid for by the room with the most steps.
+    a room at the floor is nudged one step up, paid for by the room with the most steps. With
+    empty rooms the price lift is ignored: this is only where the next stage starts looking.
     """
-    shares = [Fraction((p - problem.floor) * mesh, problem.budget) for p in prices]
+    above = [Fraction(p - problem.floor) for p in prices]
+    total = sum(above, Fraction(0)) or Fraction(1)
+    shares = [a * mesh / total if sum(above) else Fraction(mesh, len(above)) for a in above]
     target = list(split_exactly(shares, mesh))
     for i, xi in enumerate(target):
         if xi < 1:
@@ -721,12 +783,15 @@ def _implied_choice(
 
 
 def _check_proposal(problem: Problem, proposal: Proposal) -> None:
-    rooms = sorted(proposal.assignment.values())
+    rooms = sorted([*proposal.assignment.values(), *proposal.empty_rooms])
     if sorted(proposal.assignment) != sorted(problem.members) or rooms != list(range(problem.size)):
         raise BrokenInvariant(f"assignment {dict(proposal.assignment)} is not a bijection")
-    if sum(proposal.prices) != problem.rent or min(proposal.prices) < problem.floor:
+    let = sum(proposal.prices[r] for r in proposal.assignment.values())
+    if let != problem.rent or min(proposal.prices) < problem.floor:
         raise BrokenInvariant(f"prices {proposal.prices} break the rent or the floor")
 
 
 def _equal_split(problem: Problem) -> tuple[int, ...]:
-    return split_exactly([Fraction(problem.rent, problem.size)] * problem.size, problem.rent)
+    """Equal prices for every room (with empty rooms: the equal grid point's prices)."""
+    mesh = problem.size
+    return grid_prices(problem, [1] * problem.size, mesh)

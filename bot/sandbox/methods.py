@@ -35,7 +35,7 @@ DEFAULT_LIMIT = 100
 
 @dataclass
 class WebhookSettings:
-    """What setWebhook stored; delivery can be added on top of the same update queue."""
+    """What setWebhook stored; :mod:`bot.sandbox.webhook` delivers from the update queue."""
 
     url: str = ""
     secret_token: str | None = None
@@ -154,9 +154,11 @@ class BotApiMethods:
         )
 
     async def set_webhook(self, params: Params) -> Any:
-        """Store the webhook; delivery is not simulated yet (see WebhookSettings)."""
+        """Store the webhook; the stand-in's WebhookDelivery starts POSTing updates to it."""
         if params.get("drop_pending_updates"):
             self.world.updates.drop_all()
+        if params.get("allowed_updates") is not None:
+            self.world.updates.allowed_updates = params["allowed_updates"]
         self.webhook = WebhookSettings(
             url=params["url"],
             secret_token=params.get("secret_token"),

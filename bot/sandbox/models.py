@@ -214,7 +214,11 @@ class SimMessage:
             "text": self.text,
             "entities": self.entities,
             "caption": self.caption,
-            "reply_markup": self.reply_markup,
+            # Message.reply_markup is an InlineKeyboardMarkup only (Bot API, Message); a
+            # ForceReply or reply keyboard the bot sent is not echoed back.
+            "reply_markup": self.reply_markup
+            if self.reply_markup and "inline_keyboard" in self.reply_markup
+            else None,
             "edit_date": self.edit_date,
             "document": self.document.as_document() if self.document else None,
             "photo": self.photo.as_photo() if self.photo else None,

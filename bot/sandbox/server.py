@@ -29,6 +29,7 @@ from bot.sandbox.methods import BotApiMethods
 from bot.sandbox.models import SimUser
 from bot.sandbox.spec import BotApiSpec, load_spec
 from bot.sandbox.validator import validate_call, validate_result
+from bot.sandbox.webhook import Target, WebhookDelivery
 from bot.sandbox.wire import UploadedFile, decode_form, decode_json_body
 from bot.sandbox.world import World
 
@@ -79,6 +80,7 @@ class BotApiStandIn:
         self._faults: dict[str, list[ApiError]] = {}
         self._server: HTTPServer | None = None
         self.port: int | None = None
+        self.webhook = WebhookDelivery(self.world.updates, self._webhook_target, self.world.changed)
 
     # --- lifecycle --------------------------------------------------------------------------
 
@@ -95,11 +97,13 @@ class BotApiStandIn:
         self._server.add_sockets(sockets)
         self.port = sockets[0].getsockname()[1]
         self.world.updates.closing = False
+        self.webhook.start()
 
     async def stop(self) -> None:
         """End waiting long polls, stop listening and close every open connection."""
         if self._server is None:
             return
+        await self.webhook.stop()
         self.world.updates.closing = True
         self.world.changed.notify()
         self._server.stop()
@@ -127,6 +131,10 @@ class BotApiStandIn:
     def base_file_url(self) -> str:
         """What to pass as PTB's base_file_url (PTB appends the token)."""
         return f"http://{LOOPBACK}:{self._running_port()}/file/bot"
+
+    def _webhook_target(self) -> Target | None:
+        settings = self.methods.webhook
+        return Target(settings.url, settings.secret_token) if settings.url else None
 
     def _running_port(self) -> int:
         if self.port is None:

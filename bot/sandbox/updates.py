@@ -2,7 +2,8 @@
 
 Updates stay until the bot confirms them by asking for a higher offset, long polls wait until
 something arrives, and a second poller ends the first with a 409, exactly the behaviours a
-polling bot has to get right. A webhook deliverer can later drain the same queue.
+polling bot has to get right. The webhook deliverer (:mod:`bot.sandbox.webhook`) drains the
+same queue.
 """
 
 from __future__ import annotations
@@ -60,6 +61,10 @@ class UpdateQueue:
         self.pending.append(update)
         self._notifier.notify()
         return update
+
+    def remove(self, update_id: int) -> None:
+        """A webhook delivery was accepted (or given up): the update leaves the queue."""
+        self.pending = [u for u in self.pending if u["update_id"] != update_id]
 
     def drop_all(self) -> None:
         """drop_pending_updates=True on setWebhook/deleteWebhook."""

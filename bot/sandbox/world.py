@@ -178,6 +178,20 @@ class World:
             self.updates.add("message", message.to_api())
         return message
 
+    def user_replies(self, user: SimUser, to: SimMessage, text: str) -> SimMessage:
+        """The user replies to a message; in privacy mode the bot still gets replies to its own
+        messages (Telegram Bot API FAQ, "privacy mode"; from memory)."""
+        chat = to.chat
+        self._require_can_speak(user, chat)
+        entities = command_entities(text)
+        message = self.record_message(
+            chat, user, raw_text=text, entities=entities or None, reply_to=to
+        )
+        message.delivered = to.from_bot or self._bot_receives(chat, text, entities)
+        if message.delivered:
+            self.updates.add("message", message.to_api())
+        return message
+
     def _require_can_speak(self, user: SimUser, chat: SimChat) -> None:
         if chat.migrated_to is not None:
             raise SandboxError(

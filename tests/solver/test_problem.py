@@ -27,7 +27,9 @@ PEOPLE = ("p1", "p2", "p3")
         ({"rooms": ("North", "north ", "Attic")}, "repeated: north"),
         ({"rooms": ("North", "", "Attic")}, "non-empty name"),
         ({"rooms": ("North", "x" * 41, "Attic")}, "longer than 40"),
-        ({"members": ("p1", "p2")}, "3 rooms but 2 members"),
+        ({"members": ("p1", "p2", "p3", "p4")}, "3 rooms but 4 members"),
+        ({"members": ("p1",), "rooms": ("North", "South")}, "at least 2 members"),
+        ({"members": ("p1", "p\x002", "p3")}, "control characters"),
         ({"tolerance": 0}, "tolerance must be at least 2"),
         ({"tolerance": -5}, "tolerance must be at least 2"),
         ({"floor": 100_000}, "floor 100000 is too high"),
@@ -38,6 +40,13 @@ def test_bad_problems_are_refused_with_a_helpful_message(kwargs: dict, message: 
     base = {"rent": 300_000, "rooms": ROOMS, "members": PEOPLE}
     with pytest.raises(InvalidProblem, match=message):
         Problem(**{**base, **kwargs})
+
+
+def test_more_rooms_than_members_gets_placeholders() -> None:
+    p = Problem(rent=300_000, rooms=(*ROOMS, "Box"), members=PEOPLE, floor=-1_000)
+    assert p.empty_count == 1
+    assert p.agents[:3] == PEOPLE and len(p.agents) == 4
+    assert p.budget == 303_000  # only the three let rooms carry the floor
 
 
 def test_round_trip_and_budget() -> None:

@@ -1,0 +1,97 @@
+"""The bot's own settings, from ``FLATPACT_*`` environment variables or a ``.env`` file.
+
+Validated once at start-up by pydantic-settings, so a missing or malformed value stops the
+bot with one line saying what to set, instead of failing on the first message hours later.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import re
+from typing import Literal
+
+from pydantic import Field, SecretStr, field_validator, model_validator
+from pydantic_settings import BaseSettings, SettingsConfigDict
+
+#: Shape of a token from @BotFather: "<bot id>:<secret>" (from memory: the secret is 35
+#: characters of A-Z a-z 0-9 _ -; we accept 20 or more so local stand-in tokens fit too).
+TOKEN_PATTERN = re.compile(r"^\d{1,20}:[A-Za-z0-9_-]{20,}$")
+#: Telegram Bot API setWebhook: secret_token is 1-256 characters of A-Z a-z 0-9 _ -
+#: (core.telegram.org/bots/api#setwebhook).
+WEBHOOK_SECRET_PATTERN = re.compile(r"^[A-Za-z0-9_-]{1,256}$")
+
+
+class Settings(BaseSettings):
+    """Everything needed to run one bot; see the README for each ``FLATPACT_`` variable."""
+
+    model_config = SettingsConfigDict(
+        env_prefix="FLATPACT_", env_file=".env", env_file_encoding="utf-8", extra="ignore"
+    )
+
+    bot_token: SecretStr = Field(description="the bot token from @BotFather")
+    #: a SQLite file path, or a ``postgresql://`` address for several bot processes
+    database: str = "flatpact.sqlite3"
+    mode: Literal["polling", "webhook"] = "polling"
+    webhook_listen: str = "127.0.0.1"
+    webhook_port: int = Field(default=8443, ge=1, le=65535)
+    #: the public https:// address Telegram posts updates to, ending in /telegram
+    webhook_url: str | None = None
+    webhook_secret: SecretStr | None = None
+    log_level: Literal["DEBUG", "INFO", "WARNING", "ERROR"] = "INFO"
+    base_url: str | None = None
+    base_file_url: str | None = None
+    locale: str = "en"
+    #: Telegram's group limit is about 20 messages a minute (Bot FAQ; from memory). Tests raise it.
+    group_messages_per_minute: float = Field(default=20, gt=0)
+    #: Seconds between retries of messages that could not be sent (network trouble).
+    retry_every: float = Field(default=30, gt=0)
+    button_secret: SecretStr | None = None
+
+    @field_validator("bot_token")
+    @classmethod
+    def _token_shape(cls, value: SecretStr) -> SecretStr:
+        if not TOKEN_PATTERN.match(value.get_secret_value()):
+            raise ValueError(
+                "FLATPACT_BOT_TOKEN does not look like a bot token ('<digits>:<secret>'); "
+                "copy it again from @BotFather"
+            )
+        return value
+
+    @model_validator(mode="after")
+    def _webhook_needs_url(self) -> Settings:
+        if self.mode == "webhook":
+            url = self.webhook_url or ""
+            if not url.startswith("https://") or not url.rstrip("/").endswith("/telegram"):
+                raise ValueError(
+                    "webhook mode needs FLATPACT_WEBHOOK_URL: https://<your host>/telegram"
+                )
+            secret = self.webhook_secret.get_secret_value() if self.webhook_secret else ""
+            if not WEBHOOK_SECRET_PATTERN.match(secret):
+                raise ValueError(
+                    "webhook mode needs FLATPACT_WEBHOOK_SECRET: 1-256 characters of "
+                    "A-Z, a-z, 0-9, _ and -"
+                )
+        return self
+
+    def token_secret(self) -> bytes:
+        """The key for button tokens: the configured one, else derived from the bot token."""
+        if self.button_secret is not None:
+            return self.button_secret.get_secret_value().encode()
+        token = self.bot_token.get_secret_value().encode()
+        return hashlib.blake2b(token, person=b"flatpact-button").digest()
+
+
+def describe_error(error: Exception) -> str:
+    """One line for stderr: which setting is wrong and what to do, never a traceback."""
+    errors = getattr(error, "errors", None)
+    if callable(errors):
+        parts = []
+        for item in errors():
+            where = ".".join(str(p) for p in item.get("loc", ())) or "settings"
+            name = f"FLATPACT_{where.upper()}" if where != "settings" else "settings"
+            message = str(item.get("msg", "invalid")).removeprefix("Value error, ")
+            if item.get("type") == "missing":
+                message = "is not set; put it in the environment or in .env"
+            parts.append(f"{name} {message}" if item.get("type") == "missing" else message)
+        return "flatpact: " + "; ".join(parts)
+    return f"flatpact: {error}"
