@@ -4,7 +4,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test lint typecheck bench clean
+.PHONY: demo test bench clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
