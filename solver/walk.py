@@ -39,197 +39,30 @@ import json
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
-from typing import Any, Literal
+from typing import Any
 
 from solver.envy import Choice, best_point
 from solver.errors import BrokenInvariant, InvalidAnswer, InvalidState
 from solver.labelling import floor_rooms, start_cell, start_label, valid_target
-from solver.money import split_exactly
+from solver.prices import equal_split, grid_prices, settle_prices, target_near
 from solver.problem import Problem, is_placeholder
+from solver.protocol import (
+    Counters,
+    Evidence,
+    OpenQuestion,
+    Options,
+    Proposal,
+    Question,
+    Record,
+    Source,
+    Stage,
+)
 from solver.triangulation import Cell, Vertex, check_cell, level, owner_index, top_facet, x_from_s
 
-Source = Literal["asked", "rule", "repeat", "implied", "objection", "earlier"]
+__all__ = ["Counters", "Evidence", "Options", "Proposal", "Question", "Walk", "grid_prices"]
+
 FORMAT_NAME = "flatpact-walk"
 FORMAT_VERSION = 1
-
-
-@dataclass(frozen=True, slots=True)
-class Options:
-    """Per-round knobs: how the walk refines, and whether it may infer answers from money.
-
-    ``infer_from_money`` assumes that a member's view of a room depends only on that room's
-    price (no externalities) and that cheaper is never worse: then a member who took room
-    ``r`` at prices ``p`` takes ``r`` again wherever ``r`` is no dearer and every other room
-    no cheaper, and we need not ask.
-
-    ``look_ahead`` lets idle members answer in parallel: while one member's question is open,
-    the walk guesses that member's answer (their most recent room) and asks the owner of the
-    vertex the walk would reach next. A right guess saves a waiting round; a wrong one costs a
-    question, and the unanswered guess is withdrawn.
-    """
-
-    first_mesh_per_room: int = 4
-    factor: int | None = None
-    infer_from_money: bool = True
-    look_ahead: bool = False
-
-    def refinement_factor(self, rooms: int) -> int:
-        """How much finer each restart is: 4 up to four rooms, 3 above (measured best with
-        ``python -m solver.bench``: a stage's path grows with the factor and the room count)."""
-        if self.factor is not None:
-            return self.factor
-        return 4 if rooms <= 4 else 3
-
-    def first_mesh(self, rooms: int, budget: int) -> int:
-        """The coarsest mesh: at least ``rooms + 1`` and never finer than one minor unit."""
-        return min(max(self.first_mesh_per_room * rooms, rooms + 1), budget)
-
-    def to_dict(self) -> dict[str, int | bool | None]:
-        return {
-            "first_mesh_per_room": self.first_mesh_per_room,
-            "factor": self.factor,
-            "infer_from_money": self.infer_from_money,
-            "look_ahead": self.look_ahead,
-        }
-
-
-@dataclass(frozen=True, slots=True)
-class Question:
-    """One private question: "at these prices, which room would you take?"."""
-
-    id: str
-    member: str
-    prices: tuple[int, ...]
-    choices: tuple[int, ...]
-
-
-@dataclass(frozen=True, slots=True)
-class Record:
-    """One entry of the walk's log: a label and where it came from."""
-
-    seq: int
-    stage: int
-    member: str
-    prices: tuple[int, ...]
-    room: int
-    source: Source
-    vertex: Vertex | None
-
-    def to_list(self) -> list[Any]:
-        vertex = list(self.vertex) if self.vertex is not None else None
-        return [
-            self.seq,
-            self.stage,
-            self.member,
-            list(self.prices),
-            self.room,
-            self.source,
-            vertex,
-        ]
-
-    @classmethod
-    def from_list(cls, data: Sequence[Any]) -> Record:
-        seq, stage, member, prices, room, source, vertex = data
-        return cls(
-            seq,
-            stage,
-            member,
-            tuple(prices),
-            room,
-            source,
-            tuple(vertex) if vertex is not None else None,
-        )
-
-
-@dataclass(frozen=True, slots=True)
-class Evidence:
-    """Why a member's room is theirs: at ``prices`` (their vertex) they took ``room``."""
-
-    member: str
-    room: int
-    prices: tuple[int, ...]
-    source: Source
-
-
-@dataclass(frozen=True, slots=True)
-class Proposal:
-    """A division: who takes which room at which price, with the evidence behind it.
-
-    ``prices`` lists every room; the let rooms' prices sum exactly to the rent. A room in
-    ``empty_rooms`` is not let: its price is the one at which nobody would rather move there.
-    """
-
-    assignment: Mapping[str, int]
-    prices: tuple[int, ...]
-    evidence: tuple[Evidence, ...]
-    envy_bound: int
-    mesh: int
-    empty_rooms: tuple[int, ...] = ()
-
-    def to_dict(self) -> dict[str, Any]:
-        return {
-            "empty_rooms": list(self.empty_rooms),
-            "assignment": dict(self.assignment),
-            "prices": list(self.prices),
-            "evidence": [[e.member, e.room, list(e.prices), e.source] for e in self.evidence],
-            "envy_bound": self.envy_bound,
-            "mesh": self.mesh,
-        }
-
-    @classmethod
-    def from_dict(cls, data: dict[str, Any]) -> Proposal:
-        return cls(
-            assignment=dict(data["assignment"]),
-            prices=tuple(data["prices"]),
-            evidence=tuple(Evidence(m, r, tuple(p), s) for m, r, p, s in data["evidence"]),
-            envy_bound=data["envy_bound"],
-            mesh=data["mesh"],
-            empty_rooms=tuple(data["empty_rooms"]),
-        )
-
-
-@dataclass(frozen=True, slots=True)
-class Stage:
-    """One Merrill restart: its mesh and the target grid point of its start layer."""
-
-    mesh: int
-    target: tuple[int, ...]
-
-
-@dataclass(slots=True)
-class Counters:
-    """Running totals for reports and benchmarks."""
-
-    asked: int = 0
-    inferred: int = 0
-    reused: int = 0
-    implied: int = 0
-    steps: int = 0
-
-
-@dataclass(slots=True)
-class _Pending:
-    """An open question and the vertex whose label it will be."""
-
-    question: Question
-    vertex: Vertex
-    seq: int
-
-    def to_dict(self) -> dict[str, Any]:
-        q = self.question
-        return {
-            "id": q.id,
-            "member": q.member,
-            "prices": list(q.prices),
-            "choices": list(q.choices),
-            "vertex": list(self.vertex),
-            "seq": self.seq,
-        }
-
-    @classmethod
-    def from_dict(cls, p: dict[str, Any]) -> _Pending:
-        question = Question(p["id"], p["member"], tuple(p["prices"]), tuple(p["choices"]))
-        return cls(question, tuple(p["vertex"]), p["seq"])
 
 
 @dataclass
@@ -242,8 +75,8 @@ class Walk:
     cell: Cell
     entering: int
     records: list[Record] = field(default_factory=list)
-    pending: _Pending | None = None
-    ahead: dict[str, _Pending] = field(default_factory=dict)
+    pending: OpenQuestion | None = None
+    ahead: dict[str, OpenQuestion] = field(default_factory=dict)
     proposed: Proposal | None = None
     next_seq: int = 1
     steps: int = 0
@@ -272,7 +105,7 @@ class Walk:
         """
         options = options or Options()
         mesh = options.first_mesh(problem.size, problem.budget)
-        centre = tuple(start_prices) if start_prices is not None else _equal_split(problem)
+        centre = tuple(start_prices) if start_prices is not None else equal_split(problem)
         if (
             len(centre) != problem.size
             or min(centre) < problem.floor
@@ -480,10 +313,10 @@ class Walk:
         if early is not None:
             del self.ahead[early.question.id]
             if early.question.prices == prices:  # the look-ahead guessed right: promote it
-                self.pending = _Pending(early.question, vertex, early.seq)
+                self.pending = OpenQuestion(early.question, vertex, early.seq)
                 return False
         seq = self._take_seq()
-        self.pending = _Pending(Question(f"q{seq}", member, prices, choices), vertex, seq)
+        self.pending = OpenQuestion(Question(f"q{seq}", member, prices, choices), vertex, seq)
         return False
 
     def _look_ahead(self) -> None:
@@ -496,7 +329,9 @@ class Walk:
             return
         member, prices, choices = self._question_at(guess)
         seq = self._take_seq()
-        self.ahead[f"q{seq}"] = _Pending(Question(f"q{seq}", member, prices, choices), guess, seq)
+        self.ahead[f"q{seq}"] = OpenQuestion(
+            Question(f"q{seq}", member, prices, choices), guess, seq
+        )
 
     def _guess_next(self) -> Vertex | None:
         """The next vertex needing a question if the open question gets its likely answer."""
@@ -674,9 +509,9 @@ class Walk:
             walk.records.append(record)
             walk._learn(record)
         if data["pending"] is not None:
-            walk.pending = _Pending.from_dict(data["pending"])
+            walk.pending = OpenQuestion.from_dict(data["pending"])
         for item in data["ahead"]:
-            early = _Pending.from_dict(item)
+            early = OpenQuestion.from_dict(item)
             walk.ahead[early.question.id] = early
         if data["proposal"] is not None:
             walk.proposed = Proposal.from_dict(data["proposal"])
@@ -685,76 +520,7 @@ class Walk:
         return walk
 
 
-# --------------------------------------------------------------------- price helpers
-
-
-def exact_prices(problem: Problem, x: Sequence[int | Fraction], mesh: int) -> list[Fraction]:
-    """Exact prices of the grid point ``x``: ``floor + budget * (x + k * min(x)) / mesh``.
-
-    With as many rooms as members ``k`` is 0 and the prices sum to the rent. With ``e`` rooms
-    more than members, ``k = e / members`` lifts every room by the same amount so that, once
-    the ``e`` cheapest rooms stay empty, the let rooms' prices sum exactly to the rent (the
-    lift pays for the share the empty rooms would have carried). Rooms with ``x == 0`` stay
-    exactly at the floor, so the boundary rule is unchanged.
-    """
-    lift = Fraction(problem.empty_count, len(problem.members)) * min(Fraction(v) for v in x)
-    scale = Fraction(problem.budget, mesh)
-    return [problem.floor + scale * (Fraction(v) + lift) for v in x]
-
-
-def grid_prices(problem: Problem, x: Sequence[int | Fraction], mesh: int) -> tuple[int, ...]:
-    """Prices in minor units of the grid point ``x`` at ``mesh`` (what a question shows).
-
-    They sum to the rent when every room is let. With empty rooms their total is whatever
-    :func:`exact_prices` gives, cut to a whole number of units; the cut comes off rooms above
-    the floor, so a room at the floor is shown exactly at the floor.
-    """
-    exact = exact_prices(problem, x, mesh)
-    total = sum(exact, Fraction(0))
-    whole = total.numerator // total.denominator
-    above = [i for i, v in enumerate(exact) if v > problem.floor] or list(range(len(exact)))
-    cut = (total - whole) / len(above)
-    return split_exactly([v - cut if i in above else v for i, v in enumerate(exact)], whole)
-
-
-def settle_prices(
-    problem: Problem, x: Sequence[int | Fraction], mesh: int, empty: Sequence[int]
-) -> tuple[int, ...]:
-    """Proposal prices at the grid point ``x``: let rooms sum exactly to the rent.
-
-    Any shortfall of the let rooms (empty rooms a little above the cheapest) is shared
-    equally among them; empty rooms keep their exact price, rounded up (a higher price only
-    makes moving there less tempting).
-    """
-    exact = exact_prices(problem, x, mesh)
-    let = [i for i in range(problem.size) if i not in empty]
-    shortfall = (problem.rent - sum((exact[i] for i in let), Fraction(0))) / len(let)
-    let_prices = split_exactly([exact[i] + shortfall for i in let], problem.rent)
-    prices = [-(-exact[i].numerator // exact[i].denominator) for i in range(problem.size)]
-    for i, price in zip(let, let_prices, strict=True):
-        prices[i] = price
-    return tuple(prices)
-
-
-def target_near(problem: Problem, prices: Sequence[int], mesh: int) -> tuple[int, ...]:
-    """The grid point at ``mesh`` nearest to ``prices``, moved off the floor where needed.
-
-    The start layer needs every target coordinate >= 1 (:func:`solver.labelling.valid_target`);
-    a room at the floor is nudged one step up, paid for by the room with the most steps. With
-    empty rooms the price lift is ignored: this is only where the next stage starts looking.
-    """
-    above = [Fraction(p - problem.floor) for p in prices]
-    total = sum(above, Fraction(0)) or Fraction(1)
-    shares = [a * mesh / total if sum(above) else Fraction(mesh, len(above)) for a in above]
-    target = list(split_exactly(shares, mesh))
-    for i, xi in enumerate(target):
-        if xi < 1:
-            richest = max(range(len(target)), key=lambda k: (target[k], -k))
-            target[richest] -= 1 - xi
-            target[i] = 1
-    if not valid_target(target, mesh):
-        raise BrokenInvariant(f"target {target} at mesh {mesh} cannot start a stage")
-    return tuple(target)
+# --------------------------------------------------------------------- helpers
 
 
 def _entering_after(drop: int, size: int) -> int:
@@ -789,9 +555,3 @@ def _check_proposal(problem: Problem, proposal: Proposal) -> None:
     let = sum(proposal.prices[r] for r in proposal.assignment.values())
     if let != problem.rent or min(proposal.prices) < problem.floor:
         raise BrokenInvariant(f"prices {proposal.prices} break the rent or the floor")
-
-
-def _equal_split(problem: Problem) -> tuple[int, ...]:
-    """Equal prices for every room (with empty rooms: the equal grid point's prices)."""
-    mesh = problem.size
-    return grid_prices(problem, [1] * problem.size, mesh)

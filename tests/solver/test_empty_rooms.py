@@ -70,7 +70,7 @@ def test_floor_rooms_shown_exactly_at_the_floor() -> None:
     problem = Problem(
         rent=90_000, rooms=["a", "b", "c", "d"], members=["x", "y", "z"], floor=-3_000
     )
-    from solver.walk import grid_prices
+    from solver.prices import grid_prices
 
     for x in [(0, 5, 3, 4), (0, 0, 6, 6), (3, 3, 3, 3), (1, 2, 3, 6)]:
         prices = grid_prices(problem, x, 12)
