@@ -10,7 +10,13 @@ from __future__ import annotations
 from bot.context import Context
 from bot.errors import NotAllowed, RefusalCode, StaleAction
 from bot.events import Actor
-from bot.facts import division_facts, question_facts, question_ref, round_facts
+from bot.facts import (
+    agreement_facts,
+    division_facts,
+    question_facts,
+    question_ref,
+    round_facts,
+)
 from bot.messages import (
     Action,
     Choice,
@@ -25,6 +31,7 @@ from bot.phases import Phase, Step, transition
 from bot.records import AuditKind, QuestionRecord, RoundRecord, TimerKind, TokenRecord
 from bot.tokens import make_token
 from solver import InvalidAnswer, Proposal, Question, Walk
+from solver.problem import is_placeholder
 
 
 async def issue_choice(
@@ -173,9 +180,12 @@ def _progress(record: RoundRecord, walk: Walk, actor: Actor, room: int, qid: str
 
 
 async def log_inferred(ctx: Context, record: RoundRecord, walk: Walk, *, since: int) -> None:
-    """Audit answers the walk worked out without asking (boundary rule, repeated prices)."""
+    """Audit answers the walk worked out without asking (boundary rule, repeated prices).
+
+    Stand-ins for rooms that stay empty are not people, so their labels are not audited.
+    """
     for entry in walk.records[since:]:
-        if entry.source in ("rule", "repeat"):
+        if entry.source in ("rule", "repeat") and not is_placeholder(entry.member):
             await ctx.audit(
                 record.id,
                 AuditKind.INFERRED,
@@ -218,8 +228,14 @@ async def accept(ctx: Context, record: RoundRecord, actor: Actor, ref: str) -> N
         proposal_no=record.proposal_no,
         assignment=dict(proposal.assignment),
         prices=proposal.prices,
+        empty_rooms=list(proposal.empty_rooms),
+        shared=facts.shared_total,
     )
     ctx.send(Outgoing(Recipient.group(record.group_id), Kind.SETTLED, facts))
+    settled = await ctx.tx.round_by_id(record.id)
+    assert settled is not None
+    document = agreement_facts(settled, members, proposal)
+    ctx.send(Outgoing(Recipient.group(record.group_id), Kind.AGREEMENT, document))
 
 
 async def begin_objection(ctx: Context, record: RoundRecord, actor: Actor, ref: str) -> None:

@@ -13,6 +13,9 @@ send returns. What Telegram makes of a failure decides what happens next:
 * ``ChatMigrated`` moves the group's rounds to the supergroup id and sends again;
 * "message is not modified" is a success.
 
+A proposal sent to a group is followed by a picture of the walk (:mod:`bot.walk_picture`);
+that picture is an extra and its failure never holds up the outbox.
+
 A send that reached Telegram but whose answer was lost (a timeout) is sent again later: a
 rare duplicate is preferred to a lost question.
 """
@@ -28,6 +31,7 @@ from telegram import Bot, InlineKeyboardMarkup, Message
 from telegram.error import BadRequest, ChatMigrated, Forbidden, NetworkError, RetryAfter
 
 from bot.clock import Clock
+from bot.documents import send_agreement
 from bot.engine import Engine
 from bot.events import Delivered, MoveGroup
 from bot.keyboards import deep_link, join_payload, keyboard
@@ -36,6 +40,7 @@ from bot.outbox_codec import decode
 from bot.records import OutboxRecord, OutboxState
 from bot.store import Store
 from bot.texts import answered_question, board, fit, needs_private_chat, pick_locale, render
+from bot.walk_picture import send_walk_picture
 
 log = logging.getLogger(__name__)
 NOT_MODIFIED = "message is not modified"
@@ -93,9 +98,8 @@ class Delivery:
             sent_id = await self._send(row, message)
         except ChatMigrated as moved:
             await self._migrate(row.chat_id, moved.new_chat_id)
-            sent_id = await self._send(
-                row, replace(message, to=replace(message.to, chat_id=moved.new_chat_id))
-            )
+            message = replace(message, to=replace(message.to, chat_id=moved.new_chat_id))
+            sent_id = await self._send(row, message)
         except Forbidden as refused:
             await self._forbidden(row, message, str(refused))
             return
@@ -112,6 +116,15 @@ class Delivery:
         await self._set_state(row, OutboxState.SENT, sent_id)
         if message.kind is Kind.QUESTION and message.ref and sent_id is not None:
             await self.engine.handle(Delivered(f"delivered:{row.id}", message.ref, sent_id))
+        facts = message.facts
+        if (
+            message.kind is Kind.PROPOSAL
+            and isinstance(facts, DivisionFacts)
+            and not message.to.private
+            and sent_id is not None
+        ):
+            # An extra after the proposal is safely sent; it never raises.
+            await send_walk_picture(self.bot, self.store, message.to.chat_id, facts.round_id)
 
     async def _set_state(self, row: OutboxRecord, state: str, message_id: int | None) -> None:
         async with self.store.transaction() as tx:
@@ -125,6 +138,8 @@ class Delivery:
             await self._update_proposal(message)
             if message.kind is Kind.ACCEPTED:
                 return None
+        if message.kind is Kind.AGREEMENT:
+            return await send_agreement(self.bot, message, await self._locale_for(message))
         locale = await self._locale_for(message)
         need = await self._need_private_chat(message)
         link = self._group_link(message) if need or message.kind is Kind.JOINING_OPEN else None

@@ -18,7 +18,7 @@ from __future__ import annotations
 
 import json
 
-from bot import asking, deadlines, lifecycle
+from bot import asking, deadlines, earlier, lifecycle
 from bot.clock import Clock
 from bot.context import Context, EngineConfig, WalkCache
 from bot.errors import NotAllowed, Refusal, StaleAction
@@ -38,8 +38,10 @@ from bot.events import (
     ShowMyAnswers,
     Tick,
 )
+from bot.facts import agreement_facts
 from bot.messages import (
     Action,
+    AgreementFacts,
     AnswerLine,
     Kind,
     MyAnswersFacts,
@@ -108,6 +110,17 @@ class Engine:
         self._walks.update(ctx.walks)
         return result
 
+    async def history(self, group_id: int) -> list[AgreementFacts]:
+        """The group's settled rounds as agreements, oldest first (read only)."""
+        async with self._store.transaction() as tx:
+            ctx = Context(tx, self._clock(), self._config, self._walks)
+            found = []
+            for record in await tx.settled_rounds(group_id):
+                proposal = ctx.walk(record).proposal()
+                if proposal is not None:
+                    found.append(agreement_facts(record, await tx.members(record.id), proposal))
+        return found
+
     async def pending_timers(self) -> list[TimerRecord]:
         """Every timer still to fire; the adapter rebuilds its job queue from this at start-up."""
         async with self._store.transaction() as tx:
@@ -171,6 +184,9 @@ async def _press(ctx: Context, event: Press) -> None:
         await asking.accept(ctx, record, event.actor, token.ref)
     elif token.action is Action.OBJECT:
         await asking.begin_objection(ctx, record, event.actor, token.ref)
+    elif token.action in (Action.KEEP_EARLIER, Action.ANSWER_AFRESH):
+        keep = token.action is Action.KEEP_EARLIER
+        await earlier.choose(ctx, record, event.actor, token.ref, keep)
     else:
         assert token.room is not None
         await asking.object_with_room(ctx, record, event.actor, token.ref, token.room)

@@ -39,6 +39,10 @@ class Configure:
     currency: str | None = None
     tolerance: str | None = None
     floor: str | None = None
+    shared: str | None = None
+    per_person: str | None = None
+    common: Sequence[str] | str | None = None
+    empty_allowed: bool | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -70,7 +74,7 @@ class Leave:
 
 @dataclass(frozen=True, slots=True)
 class BeginAsking:
-    """The admin starts the questions; needs exactly one member per room."""
+    """The admin starts the questions; needs one member per room unless empties are allowed."""
 
     key: str
     group_id: int
@@ -97,7 +101,11 @@ class Cancel:
 
 @dataclass(frozen=True, slots=True)
 class Rerun:
-    """Start a new draft from the group's settled round; ``keep_members`` copies its members."""
+    """Start a new draft from the group's settled round; ``keep_members`` copies its members.
+
+    Without ``keep_members`` (someone moved out or in) everyone joins again with the join
+    button; whoever was in the settled round is offered to reuse their earlier answers.
+    """
 
     key: str
     group_id: int

@@ -6,7 +6,16 @@ individual answers.
 
 from __future__ import annotations
 
-from bot.messages import DivisionFacts, DivisionLine, QuestionFacts, RoundFacts
+from collections.abc import Sequence
+
+from bot.messages import (
+    AgreementFacts,
+    AgreementLine,
+    DivisionFacts,
+    DivisionLine,
+    QuestionFacts,
+    RoundFacts,
+)
 from bot.records import MemberRecord, RoundRecord
 from solver import Proposal, Question
 
@@ -25,6 +34,10 @@ def round_facts(record: RoundRecord, members: list[MemberRecord]) -> RoundFacts:
         floor=s.floor,
         members=tuple(m.display_name for m in members),
         member_ids=tuple(m.user_id for m in members),
+        shared=s.shared,
+        per_person=s.per_person,
+        common=s.common,
+        empty_allowed=s.empty_allowed,
     )
 
 
@@ -42,11 +55,18 @@ def question_facts(record: RoundRecord, question: Question, number: int) -> Ques
     )
 
 
+def shared_by_member(record: RoundRecord, members: Sequence[MemberRecord]) -> dict[int, int]:
+    """Each member's part of the shared costs, by user id (joining order takes the odd units)."""
+    parts = record.settings.shared_parts(len(members))
+    return {m.user_id: part for m, part in zip(members, parts, strict=True)}
+
+
 def division_facts(
     record: RoundRecord, members: list[MemberRecord], proposal: Proposal, proposal_no: int
 ) -> DivisionFacts:
     s = record.settings
     names = {str(m.user_id): m for m in members}
+    shared = shared_by_member(record, members)
     lines = tuple(
         DivisionLine(
             member=names[member].display_name,
@@ -54,6 +74,7 @@ def division_facts(
             room_index=room,
             room=s.rooms[room],
             price=proposal.prices[room],
+            shared=shared[names[member].user_id],
         )
         for member, room in sorted(proposal.assignment.items(), key=lambda item: item[1])
     )
@@ -68,6 +89,53 @@ def division_facts(
         envy_bound=proposal.envy_bound,
         accepted=sum(1 for m in members if m.accepted_at is not None),
         members=len(members),
+        shared_total=sum(shared.values()),
+        empty_rooms=tuple(s.rooms[r] for r in proposal.empty_rooms),
+        empty_prices=tuple(proposal.prices[r] for r in proposal.empty_rooms),
+    )
+
+
+def agreement_facts(
+    record: RoundRecord, members: list[MemberRecord], proposal: Proposal
+) -> AgreementFacts:
+    """The written agreement of a settled round: the split, the evidence, who agreed when.
+
+    Only each member's evidence (the answer that puts them in their room) is included, never
+    any other answer.
+    """
+    s = record.settings
+    names = {str(m.user_id): m for m in members}
+    shared = shared_by_member(record, members)
+    evidence = {e.member: e for e in proposal.evidence}
+    lines = tuple(
+        AgreementLine(
+            member=names[member].display_name,
+            user_id=names[member].user_id,
+            room_index=room,
+            room=s.rooms[room],
+            price=proposal.prices[room],
+            shared=shared[names[member].user_id],
+            accepted_at=names[member].accepted_at or record.updated_at,
+            evidence_prices=evidence[member].prices,
+        )
+        for member, room in sorted(proposal.assignment.items(), key=lambda item: item[1])
+    )
+    return AgreementFacts(
+        round_id=record.id,
+        group_id=record.group_id,
+        settled_at=record.updated_at,
+        rent=s.rent,
+        currency=s.currency,
+        decimals=s.decimals,
+        rooms=s.rooms,
+        common=s.common,
+        lines=lines,
+        empty_rooms=tuple(s.rooms[r] for r in proposal.empty_rooms),
+        empty_prices=tuple(proposal.prices[r] for r in proposal.empty_rooms),
+        shared=s.shared,
+        per_person=s.per_person,
+        tolerance=s.tolerance,
+        envy_bound=proposal.envy_bound,
     )
 
 

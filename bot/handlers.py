@@ -14,6 +14,7 @@ from telegram import Chat, Message, Update, User
 from telegram.constants import ChatMemberStatus, ChatType
 from telegram.error import TelegramError
 
+from bot.errors import InvalidSetup
 from bot.events import (
     Actor,
     BeginAsking,
@@ -30,11 +31,18 @@ from bot.events import (
 from bot.keyboards import group_of_payload, token_of
 from bot.messages import Kind, Outgoing, RefusalFacts
 from bot.runtime import AnyContext, runtime_of
-from bot.texts import CALLBACK_TEXT_LIMIT, fit, help_text, refusal
+from bot.settings import parse_switch
+from bot.texts import CALLBACK_TEXT_LIMIT, fit, help_text, history, refusal
 
 log = logging.getLogger(__name__)
 GROUP_TYPES = (ChatType.GROUP, ChatType.SUPERGROUP)
-_OPTION = re.compile(r"^(?P<name>tolerance|floor)\s*[:=]?\s*(?P<value>.+)$", re.IGNORECASE)
+_OPTION = re.compile(
+    r"^(?P<name>tolerance|floor|shared|per person|not let|empty rooms|rent|rooms)"
+    r"\s*[:=]?\s*(?P<value>.+)$",
+    re.IGNORECASE,
+)
+#: Options after the rooms in /newround, and every option of /adjust.
+SETUP_OPTIONS = ("tolerance", "floor", "shared", "per person", "not let", "empty rooms")
 
 
 class SetupSyntax(ValueError):
@@ -102,24 +110,56 @@ async def _group_only(update: Update) -> tuple[Message, Chat, User] | None:
 # --- set-up with arguments -------------------------------------------------------------------
 
 
-def parse_setup(text: str) -> tuple[str, str, str | None, str | None]:
-    """``1850 EUR; Loft, Attic; tolerance 5; floor 0`` -> rent, rooms, tolerance, floor."""
+def parse_options(parts: list[str], allowed: tuple[str, ...]) -> dict[str, str]:
+    """``name value`` pieces (``shared 300``, ``not let Box room``) into a dict by name."""
+    options: dict[str, str] = {}
+    for extra in parts:
+        if not extra:
+            continue
+        match = _OPTION.match(extra)
+        if match is None or match.group("name").lower() not in allowed:
+            raise SetupSyntax(
+                f"I do not understand {extra!r}; you may add "
+                + ", ".join(f"'; {name} ...'" for name in allowed)
+            )
+        options[match.group("name").lower()] = match.group("value").strip()
+    return options
+
+
+def parse_setup(text: str) -> tuple[str, str, dict[str, str]]:
+    """``1850 EUR; Loft, Attic; tolerance 5; shared 300`` -> rent, rooms and the options."""
     parts = [p.strip() for p in text.split(";")]
     if len(parts) < 2 or not parts[0] or not parts[1]:
         raise SetupSyntax(
             "write the rent with its currency, a semicolon, then the rooms separated by commas, "
             "e.g. /newround 1850.00 EUR; Loft, Attic, Bay room"
         )
-    options: dict[str, str] = {}
-    for extra in parts[2:]:
-        match = _OPTION.match(extra)
-        if match is None:
-            raise SetupSyntax(
-                f"I do not understand {extra!r}; after the rooms you may add "
-                "'; tolerance 5' and '; floor 0'"
-            )
-        options[match.group("name").lower()] = match.group("value").strip()
-    return parts[0], parts[1], options.get("tolerance"), options.get("floor")
+    return parts[0], parts[1], parse_options(parts[2:], SETUP_OPTIONS)
+
+
+def configure_event(
+    key: str, group_id: int, actor: Actor, rent: str | None, rooms: str | None, o: dict[str, str]
+) -> Configure:
+    """The set-up event for typed options (the switch is read here, amounts by the engine)."""
+    empty = o.get("empty rooms")
+    try:
+        empty_allowed = None if empty is None else parse_switch(empty, what="empty rooms")
+    except InvalidSetup as bad:
+        raise SetupSyntax(str(bad)) from bad
+    return Configure(
+        key,
+        group_id,
+        actor,
+        rent,
+        rooms,
+        None,
+        o.get("tolerance"),
+        o.get("floor"),
+        shared=o.get("shared"),
+        per_person=o.get("per person"),
+        common=o.get("not let"),
+        empty_allowed=empty_allowed,
+    )
 
 
 async def set_up_round(
@@ -127,8 +167,7 @@ async def set_up_round(
     context: AnyContext,
     rent: str,
     rooms: str,
-    tolerance: str | None = None,
-    floor: str | None = None,
+    options: dict[str, str] | None = None,
 ) -> None:
     """Draft the round and open it for joining, as one admin action."""
     found = _group_message(update)
@@ -136,11 +175,15 @@ async def set_up_round(
         return
     _, chat, user = found
     actor = actor_of(user, is_chat_admin=await is_chat_admin(context, chat, user))
+    try:
+        configure = configure_event(
+            update_key(update, "set"), chat.id, actor, rent, rooms, options or {}
+        )
+    except SetupSyntax as bad:
+        await _reply(update, f"Not done: {bad}.")
+        return
     await run_and_report(
-        update,
-        context,
-        Configure(update_key(update, "set"), chat.id, actor, rent, rooms, None, tolerance, floor),
-        OpenJoining(update_key(update, "open"), chat.id, actor),
+        update, context, configure, OpenJoining(update_key(update, "open"), chat.id, actor)
     )
 
 
@@ -151,11 +194,39 @@ async def new_round_with_arguments(update: Update, context: AnyContext) -> None:
     text = found[0].text or ""
     arguments = text.split(maxsplit=1)[1] if len(text.split(maxsplit=1)) > 1 else ""
     try:
-        rent, rooms, tolerance, floor = parse_setup(arguments)
+        rent, rooms, options = parse_setup(arguments)
     except SetupSyntax as bad:
         await _reply(update, f"Not done: {bad}.")
         return
-    await set_up_round(update, context, rent, rooms, tolerance, floor)
+    await set_up_round(update, context, rent, rooms, options)
+
+
+def _arguments(message: Message) -> str:
+    parts = (message.text or "").split(maxsplit=1)
+    return parts[1] if len(parts) > 1 else ""
+
+
+async def adjust(update: Update, context: AnyContext) -> None:
+    """``/adjust rent 1900 EUR; shared 300; not let Box room`` before the questions start."""
+    found = await _group_only(update)
+    if found is None:
+        return
+    message, chat, user = found
+    allowed = ("rent", "rooms", *SETUP_OPTIONS)
+    try:
+        options = parse_options([p.strip() for p in _arguments(message).split(";")], allowed)
+        if not options:
+            raise SetupSyntax(
+                "say what to change, e.g. /adjust shared 300; not let Box room; empty rooms yes"
+            )
+        actor = actor_of(user, is_chat_admin=await is_chat_admin(context, chat, user))
+        event = configure_event(
+            update_key(update), chat.id, actor, options.get("rent"), options.get("rooms"), options
+        )
+    except SetupSyntax as bad:
+        await _reply(update, f"Not done: {bad}.")
+        return
+    await run_and_report(update, context, event)
 
 
 # --- simple group commands -------------------------------------------------------------------
@@ -180,7 +251,7 @@ async def cancel_round(update: Update, context: AnyContext) -> None:
     await _admin_event(update, context, Cancel)
 
 
-async def run_again(update: Update, context: AnyContext) -> None:
+async def _rerun(update: Update, context: AnyContext, *, keep_members: bool) -> None:
     found = await _group_only(update)
     if found is None:
         return
@@ -189,9 +260,29 @@ async def run_again(update: Update, context: AnyContext) -> None:
     await run_and_report(
         update,
         context,
-        Rerun(update_key(update, "again"), chat.id, actor),
+        Rerun(update_key(update, "again"), chat.id, actor, keep_members),
         OpenJoining(update_key(update, "open"), chat.id, actor),
     )
+
+
+async def run_again(update: Update, context: AnyContext) -> None:
+    """Same people, same rooms: everyone is carried over."""
+    await _rerun(update, context, keep_members=True)
+
+
+async def changeover(update: Update, context: AnyContext) -> None:
+    """Someone moved out or in: same rooms and rent, and whoever lives there now joins."""
+    await _rerun(update, context, keep_members=False)
+
+
+async def agreements(update: Update, context: AnyContext) -> None:
+    """The group's past agreements (date, total, who took which room)."""
+    found = await _group_only(update)
+    if found is None:
+        return
+    runtime = runtime_of(context)
+    found_agreements = await runtime.engine.history(found[1].id)
+    await _reply(update, history(found_agreements, runtime.settings.locale))
 
 
 async def leave(update: Update, context: AnyContext) -> None:
@@ -293,6 +384,8 @@ def _press_feedback(out: list[Outgoing]) -> str:
         return "I sent you a private message about which room you would rather have."
     if kinds & {Kind.ACCEPTED, Kind.SETTLED}:
         return "Thanks, noted."
+    if Kind.EARLIER_CHOSEN in kinds:
+        return "Saved. You can change this until the questions start."
     return "Done." if out else "Already done; nothing changed."
 
 

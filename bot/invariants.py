@@ -12,6 +12,7 @@ from collections import Counter, defaultdict
 from typing import Any
 
 from bot.phases import OPEN_PHASES, Phase
+from bot.settings import RoundSettings
 from solver import BrokenInvariant, Walk
 
 Dump = dict[str, list[tuple[Any, ...]]]
@@ -35,8 +36,8 @@ def check_dump(dump: Dump) -> None:
 def _check_round(
     row: tuple[Any, ...], members: list[tuple[Any, ...]], questions: list[tuple[Any, ...]]
 ) -> None:
-    round_id, phase, settings = row[0], Phase(row[3]), json.loads(row[4])
-    rooms = len(settings["rooms"])
+    round_id, phase, settings = row[0], Phase(row[3]), RoundSettings.from_json(row[4])
+    rooms = len(settings.rooms)
     _require(len(members) <= rooms, f"round {round_id} has more members than rooms")
     if row[5] is None:
         _require(not questions, f"round {round_id} has questions but no walk")
@@ -45,9 +46,14 @@ def _check_round(
             f"round {round_id} is {phase.value} without a walk",
         )
         return
-    _require(len(members) == rooms, f"round {round_id} asks with {len(members)} of {rooms}")
+    _require(
+        len(members) == rooms or settings.fewest_members <= len(members) < rooms,
+        f"round {round_id} asks with {len(members)} of {rooms}",
+    )
     walk = Walk.from_json(row[5])
-    _check_questions(round_id, walk, questions, settings["rent"])
+    room_rent = settings.room_rent(len(members))
+    # With empty rooms the question prices list every room and need not add up to the rent.
+    _check_questions(round_id, walk, questions, room_rent if len(members) == rooms else None)
     accepted = [m for m in members if m[4] is not None]
     if phase is Phase.ASKING:
         _require(walk.proposal() is None, f"round {round_id} is asking but the walk proposed")
@@ -56,13 +62,18 @@ def _check_round(
         proposal = walk.proposal()
         _require(proposal is not None, f"round {round_id} is {phase.value} without a proposal")
         assert proposal is not None
-        _require(sum(proposal.prices) == settings["rent"], f"round {round_id}: prices != rent")
+        let = sum(proposal.prices[room] for room in proposal.assignment.values())
+        _require(let == room_rent, f"round {round_id}: let rooms' prices != rent by rooms")
+        shares = settings.shared_parts(len(members))
+        _require(let + sum(shares) == settings.rent, f"round {round_id}: payments != total")
     if phase is Phase.SETTLED:
-        _require(len(accepted) == rooms, f"round {round_id} settled without every acceptance")
+        _require(
+            len(accepted) == len(members), f"round {round_id} settled without every acceptance"
+        )
 
 
 def _check_questions(
-    round_id: int, walk: Walk, questions: list[tuple[Any, ...]], rent: int
+    round_id: int, walk: Walk, questions: list[tuple[Any, ...]], rent: int | None
 ) -> None:
     open_ids = {q.id for q in walk.open_questions()}
     stored_open = {q[1] for q in questions if q[7] is None}
@@ -73,7 +84,9 @@ def _check_questions(
     asked = {r.seq: r for r in walk.records if r.source == "asked"}
     for q in questions:
         prices = json.loads(q[3])
-        _require(sum(prices) == rent, f"round {round_id} question {q[1]}: prices != rent")
+        _require(
+            rent is None or sum(prices) == rent, f"round {round_id} question {q[1]}: prices != rent"
+        )
         if q[7] is None:
             continue
         record = asked.get(int(q[1][1:]))

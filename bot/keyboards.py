@@ -79,6 +79,8 @@ def button_label(choice: Choice, rooms: tuple[str, ...]) -> str:
         Action.ACCEPT: "Agree",
         Action.OBJECT: "I'd rather swap",
         Action.PREFER: f"Rather {room}",
+        Action.KEEP_EARLIER: "They still describe me: reuse",
+        Action.ANSWER_AFRESH: "Ask me afresh",
     }[choice.action]
     return label if len(label) <= LABEL_LIMIT else label[: LABEL_LIMIT - 1] + "…"
 

@@ -6,6 +6,9 @@ Each validates everything before writing anything, so a refusal leaves storage a
 
 from __future__ import annotations
 
+from dataclasses import replace
+
+from bot import earlier
 from bot.asking import issue_choice, start_walk
 from bot.context import Context
 from bot.errors import IllegalMove, InvalidSetup, NotAllowed, Refusal, RefusalCode
@@ -15,8 +18,8 @@ from bot.messages import Action, Kind, Outgoing, Recipient
 from bot.permissions import require_admin, require_member
 from bot.phases import RERUN_FROM, Phase, Step, transition
 from bot.records import AuditKind, RoundRecord, TimerKind
-from bot.settings import amend_settings, build_settings
-from solver import Walk
+from bot.settings import Extras, RoundSettings, amend_settings, build_settings
+from solver import InvalidAnswer, InvalidProblem, Walk
 
 
 async def open_round_of(ctx: Context, group_id: int) -> RoundRecord:
@@ -47,18 +50,24 @@ async def configure(ctx: Context, event: Configure) -> None:
         await _create_draft(ctx, event)
         return
     require_admin(record, event.actor, "change the settings")
-    if record.phase is not Phase.DRAFTING:
+    if record.phase not in (Phase.DRAFTING, Phase.GATHERING):
         raise IllegalMove(
-            f"settings can only change while drafting, and this round is {record.phase.value}; "
-            "cancel it and start again to change them"
+            "settings can only change while members are still joining (before the questions "
+            f"start), and this round is {record.phase.value}; cancel it and start again to "
+            "change them"
         )
     settings = amend_settings(
         record.settings,
         rent=_with_currency(event.rent, event.currency),
         rooms=event.rooms,
-        tolerance=event.tolerance,
-        floor=event.floor,
+        extras=_extras(event),
     )
+    joined = len(await ctx.tx.members(record.id))
+    if joined > len(settings.rooms):
+        raise InvalidSetup(
+            f"{joined} members have joined but that leaves {len(settings.rooms)} rooms to let; "
+            "keep at least one room per member, or ask someone to /leave first"
+        )
     await ctx.tx.update_round(record.id, at=ctx.now, settings=settings)
     await ctx.audit(
         record.id, AuditKind.CONFIGURED, event.actor.user_id, settings=settings.to_json()
@@ -70,11 +79,7 @@ async def _create_draft(ctx: Context, event: Configure) -> None:
     if event.rent is None or event.rooms is None:
         raise InvalidSetup("to start a round, give the total rent with its currency and the rooms")
     settings = build_settings(
-        rent=event.rent,
-        rooms=event.rooms,
-        currency=event.currency,
-        tolerance=event.tolerance,
-        floor=event.floor,
+        rent=event.rent, rooms=event.rooms, currency=event.currency, extras=_extras(event)
     )
     round_id = await ctx.tx.insert_round(
         group_id=event.group_id,
@@ -90,6 +95,17 @@ async def _created(ctx: Context, round_id: int, actor: Actor, settings_json: str
     await ctx.tx.add_timer(round_id, TimerKind.LAPSE, None, "", ctx.now + ctx.config.lapse_after)
     await ctx.audit(round_id, AuditKind.ROUND_CREATED, actor.user_id, settings=settings_json)
     await announce(ctx, round_id, Kind.DRAFT_SAVED)
+
+
+def _extras(event: Configure) -> Extras:
+    return Extras(
+        tolerance=event.tolerance,
+        floor=event.floor,
+        shared=event.shared,
+        per_person=event.per_person,
+        common=event.common,
+        empty_allowed=event.empty_allowed,
+    )
 
 
 def _with_currency(rent: str | None, currency: str | None) -> str | None:
@@ -125,6 +141,7 @@ async def join(ctx: Context, record: RoundRecord, actor: Actor) -> None:
     await ctx.tx.add_member(record.id, actor.user_id, name, ctx.now)
     await ctx.audit(record.id, AuditKind.JOINED, actor.user_id, name=name)
     await announce(ctx, record.id, Kind.MEMBER_JOINED)
+    await earlier.offer(ctx, record, actor.user_id)
 
 
 async def leave(ctx: Context, group_id: int, actor: Actor) -> None:
@@ -144,23 +161,55 @@ async def begin_asking(ctx: Context, group_id: int, actor: Actor) -> None:
     require_admin(record, actor, "start the questions")
     phase = transition(record.phase, Step.BEGIN_ASKING)
     members = await ctx.tx.members(record.id)
-    rooms = len(record.settings.rooms)
-    if len(members) != rooms:
-        raise Refusal(
-            f"the round has {rooms} rooms but {len(members)} members; questions start when "
-            "every room has exactly one member",
-            RefusalCode.WRONG_PHASE,
-        )
-    walk = Walk.start(record.settings.problem([str(m.user_id) for m in members]))
+    _check_headcount(record.settings, len(members))
+    reuse = await earlier.plan(ctx, record, members)
+    try:
+        problem = record.settings.problem([str(m.user_id) for m in members])
+        walk = Walk.start(problem, earlier=reuse.earlier)
+    except (InvalidProblem, InvalidAnswer) as exc:
+        raise InvalidSetup(f"the questions cannot start with these settings: {exc}") from exc
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
     await ctx.tx.add_timer(
         record.id, TimerKind.HOLD_UP, None, "", ctx.now + ctx.config.hold_up_after
     )
-    await ctx.audit(record.id, AuditKind.ASKING_STARTED, actor.user_id)
-    await announce(ctx, record.id, Kind.ASKING_STARTED)
+    await ctx.audit(
+        record.id,
+        AuditKind.ASKING_STARTED,
+        actor.user_id,
+        reused=sorted(int(m) for m in reuse.earlier),
+        by_default=list(reuse.by_default),
+    )
     current = await ctx.tx.round_by_id(record.id)
     assert current is not None
+    names = {m.user_id: m.display_name for m in members}
+    facts = replace(
+        round_facts(current, members),
+        reused=tuple(names[u] for u in (*reuse.chosen, *reuse.by_default)),
+        reused_by_default=tuple(names[u] for u in reuse.by_default),
+    )
+    ctx.send(Outgoing(Recipient.group(record.group_id), Kind.ASKING_STARTED, facts))
     await start_walk(ctx, current, walk)
+
+
+def _check_headcount(settings: RoundSettings, members: int) -> None:
+    """One member per room, or at least two when the method may leave rooms empty."""
+    rooms = len(settings.rooms)
+    if settings.empty_allowed and settings.fewest_members <= members <= rooms:
+        return
+    if members == rooms:
+        return
+    if settings.empty_allowed:
+        raise Refusal(
+            f"the round has {rooms} rooms and {members} members; with empty rooms allowed, "
+            f"questions start with {settings.fewest_members} to {rooms} members",
+            RefusalCode.WRONG_PHASE,
+        )
+    raise Refusal(
+        f"the round has {rooms} rooms but {members} members; questions start when every room "
+        "has exactly one member. If some rooms may stay empty, the admin can allow that with "
+        "/adjust empty rooms yes",
+        RefusalCode.WRONG_PHASE,
+    )
 
 
 async def cancel(ctx: Context, group_id: int, actor: Actor) -> None:
@@ -201,3 +250,8 @@ async def rerun(ctx: Context, group_id: int, actor: Actor, keep_members: bool) -
         for member in await ctx.tx.members(previous.id):
             await ctx.tx.add_member(round_id, member.user_id, member.display_name, ctx.now)
     await _created(ctx, round_id, actor, previous.settings.to_json())
+    if keep_members:
+        record = await ctx.tx.round_by_id(round_id)
+        assert record is not None
+        for member in await ctx.tx.members(round_id):
+            await earlier.offer(ctx, record, member.user_id)

@@ -49,6 +49,9 @@ class Kind(Enum):
     HOLD_UP = "hold-up"
     MY_ANSWERS = "my-answers"
     REFUSAL = "refusal"
+    EARLIER_OFFER = "earlier-offer"
+    EARLIER_CHOSEN = "earlier-chosen"
+    AGREEMENT = "agreement"
 
 
 class Action(Enum):
@@ -59,6 +62,8 @@ class Action(Enum):
     ACCEPT = "accept"
     OBJECT = "object"
     PREFER = "prefer"
+    KEEP_EARLIER = "keep-earlier"
+    ANSWER_AFRESH = "answer-afresh"
 
 
 @dataclass(frozen=True, slots=True)
@@ -85,6 +90,13 @@ class RoundFacts:
     floor: int
     members: tuple[str, ...]
     member_ids: tuple[int, ...] = ()
+    shared: int = 0
+    per_person: int = 0
+    common: tuple[str, ...] = ()
+    empty_allowed: bool = False
+    #: Asking started: whose earlier answers are reused, and who got that by default.
+    reused: tuple[str, ...] = ()
+    reused_by_default: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -121,6 +133,7 @@ class DivisionLine:
     room_index: int
     room: str
     price: int
+    shared: int = 0
 
 
 @dataclass(frozen=True, slots=True)
@@ -137,6 +150,9 @@ class DivisionFacts:
     envy_bound: int
     accepted: int
     members: int
+    shared_total: int = 0
+    empty_rooms: tuple[str, ...] = ()
+    empty_prices: tuple[int, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -184,6 +200,55 @@ class MyAnswersFacts:
 
 
 @dataclass(frozen=True, slots=True)
+class EarlierFacts:
+    """Private, to a member who was in the previous round: reuse those answers or not?
+
+    ``usable`` is False when the rooms changed, so earlier answers cannot be matched up;
+    ``keep`` is the member's choice once made (None: not chosen, which means reuse).
+    """
+
+    round_id: int
+    previous_round: int
+    usable: bool
+    keep: bool | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class AgreementLine:
+    """One member in the written agreement, with the answer that supports their room."""
+
+    member: str
+    user_id: int
+    room_index: int
+    room: str
+    price: int
+    shared: int
+    accepted_at: int
+    evidence_prices: tuple[int, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class AgreementFacts:
+    """Everything the written agreement shows; nobody's answers except each one's evidence."""
+
+    round_id: int
+    group_id: int
+    settled_at: int
+    rent: int
+    currency: str
+    decimals: int
+    rooms: tuple[str, ...]
+    common: tuple[str, ...]
+    lines: tuple[AgreementLine, ...]
+    empty_rooms: tuple[str, ...]
+    empty_prices: tuple[int, ...]
+    shared: int
+    per_person: int
+    tolerance: int
+    envy_bound: int
+
+
+@dataclass(frozen=True, slots=True)
 class RefusalFacts:
     """Why a request was refused and what to do instead."""
 
@@ -200,6 +265,8 @@ Facts = (
     | WaitingFacts
     | MyAnswersFacts
     | RefusalFacts
+    | EarlierFacts
+    | AgreementFacts
 )
 
 

@@ -140,6 +140,20 @@ MIGRATIONS: tuple[Migration, ...] = (
             )""",
         ),
     ),
+    Migration(
+        3,
+        "members' choice to reuse their answers from the previous round",
+        (
+            # One row per member who chose; no row means "reuse" (the default at /begin).
+            """CREATE TABLE earlier_choices (
+                round_id  INTEGER NOT NULL REFERENCES rounds(id),
+                user_id   INTEGER NOT NULL,
+                keep      INTEGER NOT NULL CHECK (keep IN (0, 1)),
+                chosen_at INTEGER NOT NULL,
+                PRIMARY KEY (round_id, user_id)
+            )""",
+        ),
+    ),
 )
 
 

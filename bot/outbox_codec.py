@@ -14,10 +14,13 @@ from typing import Any
 from bot.errors import StorageFault
 from bot.messages import (
     Action,
+    AgreementFacts,
+    AgreementLine,
     AnswerLine,
     Choice,
     DivisionFacts,
     DivisionLine,
+    EarlierFacts,
     Facts,
     Kind,
     MyAnswersFacts,
@@ -42,12 +45,15 @@ _FACT_TYPES: dict[str, type[Any]] = {
         WaitingFacts,
         MyAnswersFacts,
         RefusalFacts,
+        EarlierFacts,
+        AgreementFacts,
     )
 }
 #: Facts whose ``lines`` field holds nested records.
 _LINE_TYPES: dict[str, type[Any]] = {
     DivisionFacts.__name__: DivisionLine,
     MyAnswersFacts.__name__: AnswerLine,
+    AgreementFacts.__name__: AgreementLine,
 }
 
 

@@ -6,7 +6,8 @@ the walk visited them, and the final small cell. For more rooms we draw each roo
 across the questions, converging to the proposal.
 
 The data a picture shows is computed first (:func:`picture_data`, plain values, testable)
-and drawn second (:func:`render_png`, matplotlib with the Agg backend, no display needed).
+and drawn second (:func:`render_png`, matplotlib's object API without pyplot: no display and
+no global figure state, so the bot can render in a worker thread while it serves updates).
 Palette: Okabe & Ito's colour-blind-safe set ("Color Universal Design", 2008); every room also
 has its own marker shape so colour is never the only cue.
 """
@@ -18,10 +19,6 @@ import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-import matplotlib
-
-matplotlib.use("Agg")
-import matplotlib.pyplot as plt
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
@@ -92,12 +89,12 @@ def render_png(data: PictureData, currency: str = "", decimals: int = 2) -> byte
     fig = _triangle(data) if len(data.rooms) == 3 else _price_lines(data, currency, 10**decimals)
     buffer = io.BytesIO()
     fig.savefig(buffer, format="png", dpi=110, bbox_inches="tight")
-    plt.close(fig)
     return buffer.getvalue()
 
 
 def _triangle(data: PictureData) -> Figure:
-    fig, ax = plt.subplots(figsize=(6.4, 5.8))
+    fig = Figure(figsize=(6.4, 5.8))
+    ax = fig.subplots()
     corners = [(0.0, 0.0), (1.0, 0.0), (0.5, math.sqrt(3) / 2)]
     ax.fill(*zip(*corners, strict=True), color="#f4f1ea", zorder=0)
     ax.plot(*zip(*(corners + corners[:1]), strict=True), color="#5b5b5b", lw=1.2)
@@ -165,7 +162,8 @@ def _zoom(ax: Axes, data: PictureData, path: Sequence[tuple[float, float]]) -> N
 
 
 def _price_lines(data: PictureData, currency: str, per_major: int) -> Figure:
-    fig, ax = plt.subplots(figsize=(7.2, 4.4))
+    fig = Figure(figsize=(7.2, 4.4))
+    ax = fig.subplots()
     steps = range(1, len(data.visits) + 1)
     for room, name in enumerate(data.rooms):
         series = [v.prices[room] / per_major for v in data.visits]

@@ -108,6 +108,7 @@ class AuditKind:
     LAPSED = "lapsed"
     REMINDED = "reminded"
     HOLD_UP = "hold-up"
+    EARLIER_CHOICE = "earlier-choice"
 
 
 #: The audit kinds that are a member's own answers (shown to that member only).

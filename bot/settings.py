@@ -13,12 +13,14 @@ import re
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from decimal import Decimal, InvalidOperation
+from fractions import Fraction
 from typing import Any
 
 from babel.numbers import get_currency_precision, list_currencies
 
 from bot.errors import InvalidSetup
-from solver import InvalidProblem, Problem
+from solver import InvalidProblem, Problem, split_exactly
+from solver.money import format_minor
 from solver.problem import MAX_NAME_LENGTH, MAX_ROOMS, MIN_ROOMS, MIN_TOLERANCE
 
 #: Larger rents are almost certainly typing slips (ten million euros a month).
@@ -37,33 +39,75 @@ class Money:
 
 @dataclass(frozen=True, slots=True)
 class RoundSettings:
-    """What the admin set up. Members are not part of it: they join later."""
+    """What the admin set up. Members are not part of it: they join later.
+
+    ``rent`` is the total the members pay together each month. ``shared`` (split evenly) and
+    ``per_person`` (the same fixed amount for each member, e.g. bills) are parts of that total
+    that do not depend on the room; what is left is split by rooms. ``rooms`` are the rooms
+    of the round; ``common`` rooms are not let (common space, storage) and take no part.
+    With ``empty_allowed`` fewer members than rooms may start, and the method decides which
+    rooms stay empty.
+    """
 
     rent: int
     currency: str
     rooms: tuple[str, ...]
     tolerance: int
     floor: int = 0
+    shared: int = 0
+    per_person: int = 0
+    common: tuple[str, ...] = ()
+    empty_allowed: bool = False
 
     @property
     def decimals(self) -> int:
         return currency_decimals(self.currency)
 
+    @property
+    def fewest_members(self) -> int:
+        """Asking may begin with this many members (every room filled unless empties are ok)."""
+        return MIN_ROOMS if self.empty_allowed else len(self.rooms)
+
+    def room_rent(self, members: int) -> int:
+        """The part of the total that is split by rooms, for ``members`` members."""
+        return self.rent - self.shared - self.per_person * members
+
+    def shared_parts(self, members: int) -> tuple[int, ...]:
+        """What each member pays on top of their room, in member order; sums exactly.
+
+        The even split goes through :func:`solver.split_exactly`, so a total that does not
+        divide by the member count is still met to the minor unit (the first members in
+        order carry the leftover units, one each).
+        """
+        if members <= 0:
+            return ()
+        even = split_exactly([Fraction(self.shared, members)] * members, self.shared)
+        return tuple(part + self.per_person for part in even)
+
     def problem(self, members: Sequence[str]) -> Problem:
         """The solver's view of this round with ``members`` (user ids as strings)."""
-        return Problem(self.rent, self.rooms, tuple(members), self.tolerance, self.floor)
+        return Problem(
+            self.room_rent(len(members)), self.rooms, tuple(members), self.tolerance, self.floor
+        )
 
     def to_json(self) -> str:
-        return json.dumps(
-            {
-                "rent": self.rent,
-                "currency": self.currency,
-                "rooms": list(self.rooms),
-                "tolerance": self.tolerance,
-                "floor": self.floor,
-            },
-            separators=(",", ":"),
-        )
+        data: dict[str, Any] = {
+            "rent": self.rent,
+            "currency": self.currency,
+            "rooms": list(self.rooms),
+            "tolerance": self.tolerance,
+            "floor": self.floor,
+        }
+        # Written only when used, so rounds set up without them keep their stored text.
+        if self.shared:
+            data["shared"] = self.shared
+        if self.per_person:
+            data["per_person"] = self.per_person
+        if self.common:
+            data["common"] = list(self.common)
+        if self.empty_allowed:
+            data["empty_allowed"] = True
+        return json.dumps(data, separators=(",", ":"))
 
     @classmethod
     def from_json(cls, text: str) -> RoundSettings:
@@ -74,6 +118,10 @@ class RoundSettings:
             rooms=tuple(data["rooms"]),
             tolerance=data["tolerance"],
             floor=data["floor"],
+            shared=int(data.get("shared", 0)),
+            per_person=int(data.get("per_person", 0)),
+            common=tuple(data.get("common", ())),
+            empty_allowed=bool(data.get("empty_allowed", False)),
         )
 
 
@@ -169,6 +217,18 @@ def default_tolerance(currency: str) -> int:
     return max(one_major, MIN_TOLERANCE)
 
 
+@dataclass(frozen=True, slots=True)
+class Extras:
+    """The optional set-up input beyond rent and rooms, as typed (None: not given)."""
+
+    tolerance: str | None = None
+    floor: str | None = None
+    shared: str | None = None
+    per_person: str | None = None
+    common: Sequence[str] | str | None = None
+    empty_allowed: bool | None = None
+
+
 def build_settings(
     *,
     rent: str,
@@ -176,6 +236,7 @@ def build_settings(
     currency: str | None = None,
     tolerance: str | None = None,
     floor: str | None = None,
+    extras: Extras | None = None,
 ) -> RoundSettings:
     """Validate all set-up input together; nothing is returned unless all of it is usable."""
     money = parse_rent(rent, currency)
@@ -186,7 +247,7 @@ def build_settings(
         tolerance=_tolerance(tolerance, money.currency),
         floor=0 if floor is None else parse_amount(floor, money.currency, what="floor"),
     )
-    return check_settings(settings)
+    return check_settings(_with_extras(settings, extras or Extras()))
 
 
 def amend_settings(
@@ -196,31 +257,112 @@ def amend_settings(
     rooms: Sequence[str] | str | None = None,
     tolerance: str | None = None,
     floor: str | None = None,
+    extras: Extras | None = None,
 ) -> RoundSettings:
-    """``current`` with the given fields replaced; the currency may change with the rent."""
+    """``current`` with the given fields replaced; the currency may change with the rent.
+
+    New rooms replace every room, the common ones included (mark them again if needed).
+    """
     updated = current
     if rent is not None:
         money = parse_rent(rent, None if _has_code(rent) else current.currency)
         updated = replace(updated, rent=money.minor, currency=money.currency)
     if rooms is not None:
-        updated = replace(updated, rooms=parse_rooms(rooms))
+        updated = replace(updated, rooms=parse_rooms(rooms), common=())
     if tolerance is not None:
         updated = replace(updated, tolerance=_tolerance(tolerance, updated.currency))
     if floor is not None:
         updated = replace(updated, floor=parse_amount(floor, updated.currency, what="floor"))
-    return check_settings(updated)
+    return check_settings(_with_extras(updated, extras or Extras()))
+
+
+def _with_extras(settings: RoundSettings, extras: Extras) -> RoundSettings:
+    """Apply the shared costs, common rooms and the empty-rooms switch."""
+    updated = settings
+    if extras.tolerance is not None:
+        updated = replace(updated, tolerance=_tolerance(extras.tolerance, updated.currency))
+    if extras.floor is not None:
+        updated = replace(updated, floor=parse_amount(extras.floor, updated.currency, what="floor"))
+    if extras.shared is not None:
+        updated = replace(updated, shared=_not_negative(extras.shared, updated, "shared part"))
+    if extras.per_person is not None:
+        amount = _not_negative(extras.per_person, updated, "amount per person")
+        updated = replace(updated, per_person=amount)
+    if extras.common is not None:
+        updated = mark_common(updated, extras.common)
+    if extras.empty_allowed is not None:
+        updated = replace(updated, empty_allowed=extras.empty_allowed)
+    return updated
+
+
+def mark_common(settings: RoundSettings, names: Sequence[str] | str) -> RoundSettings:
+    """Take the named rooms out of the round (kept as common space); "none" lets them all."""
+    every = settings.rooms + settings.common
+    items = _split_names(names) if isinstance(names, str) else [str(n) for n in names]
+    wanted = [item.strip() for item in items if item.strip()]
+    if [w.casefold() for w in wanted] in (["none"], ["-"]):
+        wanted = []
+    by_fold = {room.casefold(): room for room in every}
+    unknown = [w for w in wanted if w.casefold() not in by_fold]
+    if unknown:
+        raise InvalidSetup(
+            f"{', '.join(unknown)} is not one of the rooms ({', '.join(every)}); "
+            "name rooms exactly as listed to keep them out of the round"
+        )
+    common = tuple(dict.fromkeys(by_fold[w.casefold()] for w in wanted))
+    rooms = tuple(room for room in every if room not in common)
+    if len(rooms) < MIN_ROOMS:
+        raise InvalidSetup(
+            f"that leaves {len(rooms)} room to let; a round needs at least {MIN_ROOMS} rooms"
+        )
+    return replace(settings, rooms=rooms, common=common)
+
+
+def parse_switch(text: str, *, what: str) -> bool:
+    """``yes``/``no`` (also on/off, true/false) for a round switch."""
+    word = text.strip().casefold()
+    if word in ("yes", "y", "on", "true"):
+        return True
+    if word in ("no", "n", "off", "false"):
+        return False
+    raise InvalidSetup(f"for {what}, type yes or no, not {text.strip()!r}")
 
 
 def check_settings(settings: RoundSettings) -> RoundSettings:
-    """Let the solver judge the combination (floor vs rent, tolerance) in its own words."""
+    """Let the solver judge the combination (floor vs rent, tolerance) in its own words.
+
+    Checked for the most and, with empty rooms allowed, the fewest members, because the part
+    split by rooms shrinks with every member who pays a fixed amount.
+    """
     if settings.tolerance >= settings.rent:
         raise InvalidSetup("the tolerance must be smaller than the rent; 1.00 is a good start")
-    stand_ins = [f"member {i}" for i in range(len(settings.rooms))]
-    try:
-        settings.problem(stand_ins)
-    except InvalidProblem as exc:
-        raise InvalidSetup(str(exc)) from exc
+    _check_shared(settings)
+    for count in sorted({settings.fewest_members, len(settings.rooms)}):
+        stand_ins = [f"member {i}" for i in range(count)]
+        try:
+            settings.problem(stand_ins)
+        except InvalidProblem as exc:
+            raise InvalidSetup(str(exc)) from exc
     return settings
+
+
+def _check_shared(settings: RoundSettings) -> None:
+    most = len(settings.rooms)
+    fixed = settings.shared + settings.per_person * most
+    if fixed and fixed >= settings.rent:
+        raise InvalidSetup(
+            f"the shared costs ({format_minor(fixed, settings.decimals)} {settings.currency} "
+            f"with {most} members) must be less than the total "
+            f"({format_minor(settings.rent, settings.decimals)}); lower them so the rooms "
+            "have something left to split"
+        )
+
+
+def _not_negative(text: str, settings: RoundSettings, what: str) -> int:
+    amount = parse_amount(text, settings.currency, what=what)
+    if amount < 0:
+        raise InvalidSetup(f"the {what} cannot be negative; type 0 for none")
+    return amount
 
 
 def _tolerance(text: str | None, currency: str) -> int:

@@ -52,6 +52,7 @@ TABLES = (
     "timers",
     "outbox",
     "contacts",
+    "earlier_choices",
 )
 _ROUND_COLUMNS = (
     "id, group_id, admin_id, phase, settings, walk, walk_rev, proposal_no, previous_round, "
@@ -260,6 +261,30 @@ class SqliteTransaction:
             params.append(proposal_no)
         params.append(round_id)
         await self._run(f"UPDATE rounds SET {', '.join(sets)} WHERE id = ?", params)
+
+    async def settled_rounds(self, group_id: int) -> list[RoundRecord]:
+        rows = await self._all(
+            f"SELECT {_ROUND_COLUMNS} FROM rounds WHERE group_id = ? AND phase = ? ORDER BY id",
+            (group_id, Phase.SETTLED.value),
+        )
+        return [record for row in rows if (record := _round(row)) is not None]
+
+    # ----------------------------------------------------------------- earlier answers
+
+    async def set_earlier_choice(self, round_id: int, user_id: int, keep: bool, at: int) -> None:
+        await self._run(
+            "DELETE FROM earlier_choices WHERE round_id = ? AND user_id = ?", (round_id, user_id)
+        )
+        await self._run(
+            "INSERT INTO earlier_choices (round_id, user_id, keep, chosen_at) VALUES (?, ?, ?, ?)",
+            (round_id, user_id, 1 if keep else 0, at),
+        )
+
+    async def earlier_choices(self, round_id: int) -> dict[int, bool]:
+        rows = await self._all(
+            "SELECT user_id, keep FROM earlier_choices WHERE round_id = ?", (round_id,)
+        )
+        return {int(user_id): bool(keep) for user_id, keep in rows}
 
     # ----------------------------------------------------------------- members
 

@@ -12,8 +12,12 @@ from decimal import Decimal
 from babel import Locale, UnknownLocaleError
 from babel.numbers import format_currency
 
+from bot.agreement import Document, html_document, markdown
+from bot.agreement import when as agreement_time
 from bot.messages import (
+    AgreementFacts,
     DivisionFacts,
+    EarlierFacts,
     Kind,
     MyAnswersFacts,
     Outgoing,
@@ -88,7 +92,62 @@ def render(message: Outgoing, locale: str, *, need_private_chat: tuple[str, ...]
         return f"Your round has been {f.phase} for a while. Still waiting for: {who}."
     if isinstance(f, MyAnswersFacts):
         return my_answers(f, locale)
+    if isinstance(f, EarlierFacts):
+        return earlier_offer(f)
+    if isinstance(f, AgreementFacts):
+        # Sent as files (agreement_files); as text only if sent like any other message.
+        return markdown(f).text
     return round_text(f, message.kind, locale, need_private_chat)
+
+
+def earlier_offer(f: EarlierFacts) -> str:
+    """Private, to a member of the previous round: keep the old answers or start afresh."""
+    if not f.usable:
+        return (
+            "Welcome back. The rooms are not the same as in the last round, so your earlier "
+            "answers cannot be matched up; you will answer afresh."
+        )
+    if f.keep is None:
+        return (
+            "Welcome back. You answered questions in the last round of this flat. If those "
+            "answers still describe your preferences, I can reuse them and ask you fewer "
+            "questions. If you do not choose before the questions start, I reuse them."
+        )
+    if f.keep:
+        return "Noted: I will reuse your earlier answers. You can still change this."
+    return "Noted: you will answer afresh. You can still change this."
+
+
+def agreement_caption(f: AgreementFacts, locale: str) -> str:
+    """The caption of the written agreement's file."""
+    return (
+        f"The written agreement, settled {agreement_time(f.settled_at)}: "
+        f"total {money(f.rent, f.currency, f.decimals, locale)}. Keep it with your papers."
+    )
+
+
+def agreement_files(f: AgreementFacts) -> tuple[Document, Document]:
+    """The agreement as Markdown (easy to read anywhere) and HTML (easy to print)."""
+    return markdown(f), html_document(f)
+
+
+def history(agreements: list[AgreementFacts], locale: str) -> str:
+    """The group's past agreements, newest first: when, the total, who took which room."""
+    if not agreements:
+        return "No agreements yet in this group. Once a round is settled, it is listed here."
+    blocks = []
+    for f in reversed(agreements):
+        rooms = "; ".join(
+            f"{line.member}: {line.room} "
+            f"({money(line.price + line.shared, f.currency, f.decimals, locale)})"
+            for line in f.lines
+        )
+        empty = f" Empty: {', '.join(f.empty_rooms)}." if f.empty_rooms else ""
+        blocks.append(
+            f"• {agreement_time(f.settled_at)}, total "
+            f"{money(f.rent, f.currency, f.decimals, locale)}: {rooms}.{empty}"
+        )
+    return "Agreements of this group, newest first:\n" + "\n".join(blocks)
 
 
 def refusal(f: RefusalFacts) -> str:
@@ -133,20 +192,31 @@ def division(f: DivisionFacts, kind: Kind, locale: str) -> str:
         Kind.ACCEPTED: f"Suggested split ({f.accepted} of {f.members} agreed so far):",
         Kind.REMINDER: "Reminder: please agree or ask to swap. The suggested split:",
     }.get(kind, "Suggested split:")
+
+    def cash(minor: int) -> str:
+        return money(minor, f.currency, f.decimals, locale)
+
     lines = [
-        f"• {line.member}: {line.room}, {money(line.price, f.currency, f.decimals, locale)}"
+        f"• {line.member}: {line.room}, {cash(line.price)}"
+        + (
+            f" + {cash(line.shared)} shared = {cash(line.price + line.shared)}"
+            if f.shared_total
+            else ""
+        )
         for line in f.lines
     ]
-    total = sum(line.price for line in f.lines)
+    lines += [
+        f"• {room} stays empty; nobody would rather have it at {cash(price)}."
+        for room, price in zip(f.empty_rooms, f.empty_prices, strict=True)
+    ]
+    total = sum(line.price + line.shared for line in f.lines)
     check = "matches" if total == f.rent else "DOES NOT match"
-    tolerance = money(f.tolerance, f.currency, f.decimals, locale)
     return "\n".join(
         [
             head,
             *lines,
-            f"Total {money(total, f.currency, f.decimals, locale)}, which {check} the rent of "
-            f"{money(f.rent, f.currency, f.decimals, locale)}.",
-            f"Each of you chose your room at prices within {tolerance} of these.",
+            f"Total {cash(total)}, which {check} the rent of {cash(f.rent)}.",
+            f"Each of you chose your room at prices within {cash(f.tolerance)} of these.",
             "",
             CAUTION,
         ]
@@ -191,25 +261,49 @@ def round_text(
         Kind.CANCELLED: "The round was cancelled. Nothing was agreed.",
         Kind.LAPSED: "The round ran out of time and is closed. Nothing was agreed.",
     }.get(kind, "Round update.")
-    rent = money(f.rent, f.currency, f.decimals, locale)
-    lines = [
-        headline,
-        f"Rent: {rent}. Rooms: {', '.join(f.rooms)}.",
-        f"Tolerance: {money(f.tolerance, f.currency, f.decimals, locale)}."
-        + (
-            f" Lowest price per room: {money(f.floor, f.currency, f.decimals, locale)}."
-            if f.floor
-            else ""
-        ),
-        f"Members ({len(f.members)} of {len(f.rooms)}): {', '.join(f.members) or 'nobody yet'}.",
-    ]
+    lines = [headline, *_settings_lines(f, locale)]
+    if f.reused:
+        lines.append(f"Earlier answers reused for: {', '.join(f.reused)}.")
+    if f.reused_by_default:
+        lines.append(
+            f"({', '.join(f.reused_by_default)} did not choose, so their earlier answers "
+            "are reused.)"
+        )
     if need_private_chat and kind in (Kind.JOINING_OPEN, Kind.MEMBER_JOINED, Kind.ASKING_STARTED):
         lines.append(
             f"Still to open a private chat with me (button below): {', '.join(need_private_chat)}."
         )
     if kind in (Kind.MEMBER_JOINED, Kind.JOINING_OPEN) and len(f.members) == len(f.rooms):
         lines.append("Every room has a member now: the admin can send /begin.")
+    elif kind is Kind.MEMBER_JOINED and f.empty_allowed and len(f.members) >= 2:
+        lines.append("Rooms may stay empty, so the admin can send /begin whenever all are in.")
     return "\n".join(lines)
+
+
+def _settings_lines(f: RoundFacts, locale: str) -> list[str]:
+    def cash(minor: int) -> str:
+        return money(minor, f.currency, f.decimals, locale)
+
+    lines = [
+        f"Total per month: {cash(f.rent)}. Rooms: {', '.join(f.rooms)}.",
+        f"Tolerance: {cash(f.tolerance)}."
+        + (f" Lowest price per room: {cash(f.floor)}." if f.floor else ""),
+    ]
+    if f.shared or f.per_person:
+        lines.append(
+            f"Shared costs: {cash(f.shared)} split evenly, plus {cash(f.per_person)} per "
+            "person; the rest is split by rooms."
+        )
+    if f.common:
+        lines.append(f"Not let (common space or storage): {', '.join(f.common)}.")
+    if f.empty_allowed:
+        lines.append(
+            "Rooms may stay empty: with fewer members than rooms, the method decides which."
+        )
+    lines.append(
+        f"Members ({len(f.members)} of {len(f.rooms)}): {', '.join(f.members) or 'nobody yet'}."
+    )
+    return lines
 
 
 def board(status: StatusFacts, locale: str) -> str:
@@ -242,7 +336,10 @@ COMMANDS: tuple[tuple[str, str], ...] = (
     ("leave", "Leave the round before the questions start"),
     ("myanswers", "Get your own answers, privately"),
     ("cancelround", "Stop the open round (admin)"),
-    ("again", "Run the last settled round again with the same settings"),
+    ("adjust", "Change the settings before the questions start (admin)"),
+    ("again", "Run the last settled round again with the same people and settings"),
+    ("changeover", "Someone moved out or in: new round, same rooms and rent, all join again"),
+    ("agreements", "List this group's past agreements"),
     ("help", "What I do and how it works"),
 )
 

@@ -16,7 +16,13 @@ from bot.messages import Action, Kind, Outgoing
 from bot.phases import Phase
 from bot.rehearsal import Rehearsal
 from bot.sqlite_store import SqliteStore
-from bot.wording import CAUTION, render
+from bot.texts import render as render_text
+from bot.wording import CAUTION
+
+
+def render(message: Outgoing) -> str:
+    """The text the adapter would send (English locale)."""
+    return render_text(message, "en")
 
 
 @pytest.mark.parametrize(("size", "seed"), [(3, 1), (4, 2), (5, 3)])

@@ -1,0 +1,103 @@
+"""The demo end to end, in-process: the real bot, the stand-in, invented simulated flatmates.
+
+Outside references: the Telegram Bot API spec (the stand-in checks every call against
+../shared/telegram-bot-api/api.json); the PNG specification for the file's signature and
+header; Babel's CLDR data to format the amounts we look for in the printed summary. The
+division is read back from the bot's SQLite file, and envy is computed here from each
+flatmate's hidden values, not taken from the demo's own table.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import struct
+from decimal import Decimal
+from pathlib import Path
+
+from babel.numbers import format_currency
+from rich.console import Console
+
+from bot.demo import main
+from bot.demo_round import DemoOptions, DemoResult, run_round
+from bot.pictures import picture_data, render_png
+from bot.sqlite_store import SqliteStore
+from bot.walk_picture import CAPTION_LIMIT
+from solver import Walk
+
+PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG spec (ISO/IEC 15948) section 5.2
+
+
+def euros(minor: int) -> str:
+    return str(format_currency(Decimal(minor).scaleb(-2), "EUR", locale="en"))
+
+
+async def stored(database: Path) -> tuple[dict[str, int], list[int], Walk, set[tuple[int, ...]]]:
+    """From the bot's own file: the agreement (by member name), the walk, the asked prices."""
+    store = await SqliteStore.open(database)
+    try:
+        audit = (await store.dump())["audit"]
+        row = next(r for r in audit if r[3] == "agreement")
+        round_id, detail = row[1], json.loads(row[5])
+        async with store.transaction() as tx:
+            names = {str(m.user_id): m.display_name for m in await tx.members(round_id)}
+            record = await tx.round_by_id(round_id)
+            asked = {q.prices for q in await tx.questions(round_id)}
+    finally:
+        await store.close()
+    assert record is not None and record.walk_json is not None
+    assignment = {names[user]: room for user, room in detail["assignment"].items()}
+    return assignment, detail["prices"], Walk.from_json(record.walk_json), asked
+
+
+async def three_rooms(tmp_path: Path) -> tuple[DemoResult, str]:
+    printed = io.StringIO()
+    console = Console(file=printed, width=120, highlight=False)
+    options = DemoOptions(rooms=3, seed=11, tolerance=100, out=tmp_path, patience=20)
+    return await run_round(options, console), printed.getvalue()
+
+
+async def test_demo_round_is_envy_free_by_the_flatmates_own_values(tmp_path: Path) -> None:
+    result, transcript = await three_rooms(tmp_path)
+    assignment, prices, _, _ = await stored(result.database)
+    assert result.phase == "settled"
+    assert sum(prices) == result.rent
+    assert sorted(assignment.values()) == [0, 1, 2]
+    for name, room in assignment.items():
+        # The solver's promise for quasi-linear tenants: envy at most the tolerance.
+        assert result.tenants[name].envy(prices, room) <= result.tolerance
+    # The transcript showed the private questions and the group's suggested split.
+    assert transcript.count("pressed [I'd take") == sum(result.asked.values())
+    for name, room in assignment.items():
+        assert f"• {name}: {result.rooms[room]}, {euros(prices[room])}" in transcript
+    # Outside reference: every call the bot made was valid by the Bot API spec.
+    assert result.violations == ()
+
+
+async def test_picture_is_sent_to_the_group_and_saved(tmp_path: Path) -> None:
+    result, _ = await three_rooms(tmp_path)
+    _, _, walk, asked = await stored(result.database)
+    assert [chat for chat, _ in result.sent_photos] == [result.group_id]
+    caption = result.sent_photos[0][1] or ""
+    assert 0 < len(caption) <= CAPTION_LIMIT  # Bot API sendPhoto: caption 0-1024 characters
+    assert result.picture is not None
+    png = result.picture.read_bytes()
+    assert png.startswith(PNG_SIGNATURE)
+    width, height = struct.unpack(">II", png[16:24])  # IHDR width, height (PNG spec 11.2.2)
+    assert 300 <= width <= 2000 and 300 <= height <= 2000  # sensible for a phone (common practice)
+    # The picture is drawn from the round's stored walk (rendering is deterministic) ...
+    data = picture_data(walk)
+    assert render_png(data, "EUR", 2) == png
+    # ... and its "asked" points are exactly the price lists the bot asked about.
+    assert {v.prices for v in data.visits if v.asked} == asked
+
+
+def test_main_prints_summary_and_how_it_works(tmp_path: Path) -> None:
+    printed = io.StringIO()
+    code = main(["--rooms", "2", "--seed", "5", "--out", str(tmp_path)], Console(file=printed))
+    text = printed.getvalue()
+    assert code == 0
+    assert "not legal or financial advice" in text
+    assert "two assumptions" in text
+    assert str(tmp_path / "walk.png") in text
+    assert (tmp_path / "walk.png").is_file()
