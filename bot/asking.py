@@ -56,10 +56,26 @@ async def sync_walk(ctx: Context, record: RoundRecord, walk: Walk) -> None:
     for question in walk.open_questions():
         if await ctx.tx.question(record.id, question.id) is None:
             await ask(ctx, record, walk, question)
+    await withdraw_unneeded(ctx, record, walk)
     proposal = walk.proposal()
     current = await ctx.tx.round_by_id(record.id)
     if proposal is not None and current is not None and current.phase is Phase.ASKING:
         await propose(ctx, current, proposal)
+
+
+async def withdraw_unneeded(ctx: Context, record: RoundRecord, walk: Walk) -> None:
+    """Close stored questions the walk no longer needs (a look-ahead guess that missed).
+
+    The member's message loses its buttons, no reminder follows, and a late press is refused.
+    """
+    still_open = {q.id for q in walk.open_questions()}
+    for stored in await ctx.tx.questions(record.id):
+        if stored.open and stored.qid not in still_open:
+            await ctx.tx.withdraw_question(record.id, stored.qid, ctx.now)
+            await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER], ref=stored.qid)
+            await ctx.audit(record.id, AuditKind.WITHDRAWN, stored.user_id, qid=stored.qid)
+            facts = ProgressFacts(record.id, 0, 0, None, question_ref(record.id, stored.qid))
+            ctx.send(Outgoing(Recipient.person(stored.user_id), Kind.WITHDRAWN, facts))
 
 
 async def ask(ctx: Context, record: RoundRecord, walk: Walk, question: Question) -> None:
@@ -151,6 +167,11 @@ async def answer(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
         raise StaleAction(
             f"you already answered this question ({record.settings.rooms[stored.room or 0]}); "
             "your answer is stored, nothing changed"
+        )
+    if stored.withdrawn_at is not None:
+        raise StaleAction(
+            "that question is no longer needed: the others' answers took the walk elsewhere; "
+            "nothing changed"
         )
     if record.phase is not Phase.ASKING:
         raise StaleAction("this round is no longer asking questions; nothing changed")

@@ -39,7 +39,15 @@ from bot.messages import DivisionFacts, Kind, Outgoing, ProgressFacts, QuestionF
 from bot.outbox_codec import decode
 from bot.records import OutboxRecord, OutboxState
 from bot.store import Store
-from bot.texts import answered_question, board, fit, needs_private_chat, pick_locale, render
+from bot.texts import (
+    answered_question,
+    board,
+    fit,
+    needs_private_chat,
+    pick_locale,
+    render,
+    withdrawn_question,
+)
 from bot.walk_picture import send_walk_picture
 
 log = logging.getLogger(__name__)
@@ -132,6 +140,8 @@ class Delivery:
 
     async def _send(self, row: OutboxRecord, message: Outgoing) -> int | None:
         """Send or edit; returns the message id that now shows this outgoing message."""
+        if message.kind is Kind.WITHDRAWN and isinstance(message.facts, ProgressFacts):
+            return await self._withdraw_question(message, message.facts)
         if isinstance(message.facts, ProgressFacts) and message.facts.question_ref:
             return await self._acknowledge_answer(message, message.facts)
         if message.kind in (Kind.ACCEPTED, Kind.SETTLED):
@@ -147,6 +157,20 @@ class Delivery:
         markup = keyboard(message, _rooms_of(message), link)
         sent = await self.bot.send_message(message.to.chat_id, text, reply_markup=markup)
         return sent.message_id
+
+    async def _withdraw_question(self, message: Outgoing, facts: ProgressFacts) -> int | None:
+        """Edit a no-longer-needed question in place (buttons gone); never a new message."""
+        chat_id = message.to.chat_id
+        async with self.store.transaction() as tx:
+            asked = await tx.last_sent(
+                chat_id, [Kind.QUESTION.value, Kind.REMINDER.value], ref=facts.question_ref
+            )
+        if asked is None or asked.message_id is None:
+            return None
+        question = decode(asked.payload).facts
+        assert isinstance(question, QuestionFacts)
+        text = withdrawn_question(question, await self._locale_for(message))
+        return await self._edit(chat_id, asked.message_id, text, None)
 
     async def _acknowledge_answer(self, message: Outgoing, facts: ProgressFacts) -> int | None:
         """Edit the answered question in place (buttons gone), then refresh the group board."""

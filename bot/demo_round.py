@@ -267,6 +267,7 @@ async def run_round(
             final = watcher.result()
             photo = await demo.photo()
             walk = await _stored_walk(demo.runtime, group.id)
+            shown = await _questions_shown(demo.runtime, group.id)
             stop_printing.set()
             await follower
         picture = _save_picture(photo, options.out)
@@ -281,7 +282,7 @@ async def run_round(
             tenants=tenants,
             assignment={by_id[m]: r for m, r in proposal.assignment.items()} if proposal else {},
             prices=proposal.prices if proposal else (),
-            asked={by_id[m]: n for m, n in walk.questions_per_member().items()} if walk else {},
+            asked={by_id[str(m)]: n for m, n in shown.items()},
             answered_by_hand=options.play,
             picture=picture,
             database=database,
@@ -310,6 +311,17 @@ async def _stored_walk(runtime: Runtime, group_id: int) -> Walk | None:
     if record is None or record.walk_json is None:
         return None
     return Walk.from_json(record.walk_json)
+
+
+async def _questions_shown(runtime: Runtime, group_id: int) -> dict[int, int]:
+    """Questions each member was sent, including ones asked ahead and later withdrawn."""
+    async with runtime.store.transaction() as tx:
+        record = await tx.latest_round(group_id)
+        questions = await tx.questions(record.id) if record is not None else []
+    shown: dict[int, int] = {}
+    for question in questions:
+        shown[question.user_id] = shown.get(question.user_id, 0) + 1
+    return shown
 
 
 def _save_picture(photo: SimMessage | None, out: Path) -> Path | None:

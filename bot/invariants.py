@@ -76,7 +76,7 @@ def _check_questions(
     round_id: int, walk: Walk, questions: list[tuple[Any, ...]], rent: int | None
 ) -> None:
     open_ids = {q.id for q in walk.open_questions()}
-    stored_open = {q[1] for q in questions if q[7] is None}
+    stored_open = {q[1] for q in questions if q[7] is None and q[9] is None}
     _require(
         stored_open <= open_ids,
         f"round {round_id}: stored open questions {stored_open} not open in the walk {open_ids}",

@@ -38,6 +38,7 @@ class Kind(Enum):
     ASKING_STARTED = "asking-started"
     QUESTION = "question"
     PROGRESS = "progress"
+    WITHDRAWN = "withdrawn"
     PROPOSAL = "proposal"
     ACCEPTED = "accepted"
     ROOM_PROMPT = "room-prompt"

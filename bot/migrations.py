@@ -154,6 +154,11 @@ MIGRATIONS: tuple[Migration, ...] = (
             )""",
         ),
     ),
+    Migration(
+        4,
+        "questions the walk no longer needs (a look-ahead guess that did not come true)",
+        ("ALTER TABLE questions ADD COLUMN withdrawn_at INTEGER",),
+    ),
 )
 
 

@@ -41,7 +41,11 @@ MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*", "h", "<")
 
 @dataclass(frozen=True, slots=True)
 class Visit:
-    """One labelled price list of the walk, in the order the walk needed it."""
+    """One labelled price list of the walk, in the order the walk needed it.
+
+    ``asked``: a member answered at exactly these prices (when the walk got there, or ahead of
+    time); otherwise the label came from the floor rule or was implied by earlier answers.
+    """
 
     prices: tuple[int, ...]
     room: int
@@ -63,7 +67,9 @@ class PictureData:
 def picture_data(walk: Walk) -> PictureData:
     """The price lists the walk labelled (asked or inferred), in order, and its result."""
     visits = tuple(
-        Visit(r.prices, r.room, r.source == "asked") for r in walk.records if r.vertex is not None
+        Visit(r.prices, r.room, r.source in ("asked", "repeat"))
+        for r in walk.records
+        if r.vertex is not None
     )
     proposal = walk.proposal()
     problem = walk.problem

@@ -42,7 +42,11 @@ class MemberRecord:
 
 @dataclass(frozen=True, slots=True)
 class QuestionRecord:
-    """A question sent to a member; answered once ``answered_at`` and ``room`` are set."""
+    """A question sent to a member; answered once ``answered_at`` and ``room`` are set.
+
+    ``withdrawn_at`` is set instead when the walk no longer needs the answer (it asked an idle
+    member ahead of time, and the walk went another way).
+    """
 
     round_id: int
     qid: str
@@ -53,6 +57,12 @@ class QuestionRecord:
     asked_at: int
     answered_at: int | None
     room: int | None
+    withdrawn_at: int | None = None
+
+    @property
+    def open(self) -> bool:
+        """Still waiting for an answer."""
+        return self.answered_at is None and self.withdrawn_at is None
 
 
 @dataclass(frozen=True, slots=True)
@@ -98,6 +108,7 @@ class AuditKind:
     ASKING_STARTED = "asking-started"
     QUESTION = "question"
     ANSWER = "answer"
+    WITHDRAWN = "withdrawn"
     INFERRED = "inferred"
     PROPOSAL = "proposal"
     OBJECTION_STARTED = "objection-started"

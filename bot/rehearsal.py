@@ -15,7 +15,15 @@ from dataclasses import dataclass, field
 from bot.engine import Engine
 from bot.errors import FlatpactError
 from bot.events import Actor, BeginAsking, Configure, Event, Join, OpenJoining, Press
-from bot.messages import Action, Choice, DivisionFacts, Kind, Outgoing, QuestionFacts
+from bot.messages import (
+    Action,
+    Choice,
+    DivisionFacts,
+    Kind,
+    Outgoing,
+    ProgressFacts,
+    QuestionFacts,
+)
 from solver.simulate import Tenant
 
 StepHook = Callable[["Rehearsal", Event, list[Outgoing]], Awaitable[None]]
@@ -40,11 +48,19 @@ class Rehearsal:
     events: int = 0
     answers: int = 0
     log: list[Outgoing] = field(default_factory=list)
+    withdrawn: set[str] = field(default_factory=set)
 
     async def send(self, event: Event) -> list[Outgoing]:
         out = await self.engine.handle(event)
         self.events += 1
         self.log.extend(out)
+        self.withdrawn.update(
+            m.facts.question_ref
+            for m in out
+            if m.kind is Kind.WITHDRAWN
+            and isinstance(m.facts, ProgressFacts)
+            and m.facts.question_ref is not None
+        )
         if self.after_step is not None:
             await self.after_step(self, event, out)
         return out
@@ -89,12 +105,16 @@ class Rehearsal:
     async def answer(self, message: Outgoing) -> list[Outgoing]:
         facts = message.facts
         assert isinstance(facts, QuestionFacts)
+        if message.ref in self.withdrawn:  # asked ahead of time, no longer needed
+            return []
         tenant = self.tenants[str(message.to.chat_id)]
         room = tenant.choose(facts.prices, facts.choices, self.floor)
         token = next(c.token for c in message.choices if c.room == room)
         member = next(m for m in self.members if m.user_id == message.to.chat_id)
-        self.answers += 1
-        return await self.send(Press(self.key(), member, token))
+        out = await self.send(Press(self.key(), member, token))
+        if not any(m.kind is Kind.REFUSAL for m in out):  # e.g. withdrawn while we pressed
+            self.answers += 1
+        return out
 
 
 def _choice(choices: Sequence[Choice], action: Action) -> Choice:

@@ -59,7 +59,8 @@ _ROUND_COLUMNS = (
     "created_at, updated_at"
 )
 _QUESTION_COLUMNS = (
-    "round_id, qid, user_id, prices, choices, sent_message_id, asked_at, answered_at, room"
+    "round_id, qid, user_id, prices, choices, sent_message_id, asked_at, answered_at, room, "
+    "withdrawn_at"
 )
 _TIMER_COLUMNS = "id, round_id, kind, user_id, ref, due_at, fired_at"
 _OUTBOX_COLUMNS = "id, event_key, seq, chat_id, round_id, kind, ref, payload, state, message_id"
@@ -320,7 +321,7 @@ class SqliteTransaction:
 
     async def insert_question(self, question: QuestionRecord) -> None:
         await self._run(
-            f"INSERT INTO questions ({_QUESTION_COLUMNS}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            f"INSERT INTO questions ({_QUESTION_COLUMNS}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
             (
                 question.round_id,
                 question.qid,
@@ -331,6 +332,7 @@ class SqliteTransaction:
                 question.asked_at,
                 question.answered_at,
                 question.room,
+                question.withdrawn_at,
             ),
         )
 
@@ -352,8 +354,15 @@ class SqliteTransaction:
     async def record_answer(self, round_id: int, qid: str, room: int, at: int) -> None:
         await self._run(
             "UPDATE questions SET room = ?, answered_at = ? WHERE round_id = ? AND qid = ? "
-            "AND answered_at IS NULL",
+            "AND answered_at IS NULL AND withdrawn_at IS NULL",
             (room, at, round_id, qid),
+        )
+
+    async def withdraw_question(self, round_id: int, qid: str, at: int) -> None:
+        await self._run(
+            "UPDATE questions SET withdrawn_at = ? WHERE round_id = ? AND qid = ? "
+            "AND answered_at IS NULL AND withdrawn_at IS NULL",
+            (at, round_id, qid),
         )
 
     async def set_sent_message(self, round_id: int, qid: str, message_id: int) -> None:
@@ -558,4 +567,5 @@ def _question(row: Any) -> QuestionRecord:
         asked_at=row[6],
         answered_at=row[7],
         room=row[8],
+        withdrawn_at=row[9],
     )

@@ -85,6 +85,8 @@ def render(message: Outgoing, locale: str, *, need_private_chat: tuple[str, ...]
         return division(f, message.kind, locale)
     if isinstance(f, PromptFacts):
         return prompt(f, locale)
+    if isinstance(f, ProgressFacts) and message.kind is Kind.WITHDRAWN:
+        return WITHDRAWN_NOTE
     if isinstance(f, ProgressFacts):
         return f"Saved: you would take {f.room_taken}. Thank you, the next step is on its way."
     if isinstance(f, WaitingFacts):
@@ -171,6 +173,23 @@ def question(f: QuestionFacts, locale: str, *, reminder: bool) -> str:
             f"{head}Question {f.number_for_member}: if the rent were split like this,",
             *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
             f"which room would you take? (You can pick: {offered}.)",
+        ]
+    )
+
+
+WITHDRAWN_NOTE = (
+    "No longer needed: I asked this early so you would not have to wait, and the others' "
+    "answers took the walk elsewhere. Nothing to do."
+)
+
+
+def withdrawn_question(f: QuestionFacts, locale: str) -> str:
+    """A question asked ahead of time that the walk no longer needs: prices kept, no buttons."""
+    return "\n".join(
+        [
+            f"Question {f.number_for_member}: at these prices,",
+            *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
+            WITHDRAWN_NOTE,
         ]
     )
 

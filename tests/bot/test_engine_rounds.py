@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections import deque
 from pathlib import Path
 
 import pytest
@@ -107,11 +108,14 @@ async def test_objection_leads_to_more_questions_and_a_settlement(
     members = people(3)
     tenants = tenants_for(members, 5)
     play = Rehearsal(engine, GROUP, members[0], members, tenants)
-    queue = await play.set_up(RENT_TEXT, ROOMS[:3])
-    while not any(m.kind is Kind.PROPOSAL for m in queue):
-        question = next(m for m in queue if m.kind is Kind.QUESTION)
-        queue = await play.answer(question)
-    proposal = next(m for m in queue if m.kind is Kind.PROPOSAL)
+    waiting = deque(await play.set_up(RENT_TEXT, ROOMS[:3]))
+    proposal = None
+    while proposal is None:  # answer questions (several may be open) until a proposal
+        message = waiting.popleft()
+        if message.kind is Kind.PROPOSAL:
+            proposal = message
+        elif message.kind is Kind.QUESTION:
+            waiting.extend(await play.answer(message))
     objector = members[1]
     obj = next(c for c in proposal.choices if c.action is Action.OBJECT)
     prompt = await play.send(Press("obj-1", objector, obj.token))

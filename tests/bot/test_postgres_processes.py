@@ -50,7 +50,9 @@ class Processes:
         start = next(self.turn) % len(self.engines)
         order = [*self.engines[start:], *self.engines[:start]]  # who goes first alternates
         results = await asyncio.gather(*(engine.handle(event) for engine in order))
-        acted = [i for i, out in enumerate(results) if out]
+        # a refusal changes nothing (e.g. a press on a question withdrawn meanwhile), so both
+        # processes may give it; acting means producing anything else
+        acted = [i for i, out in enumerate(results) if any(m.kind is not Kind.REFUSAL for m in out)]
         assert len(acted) <= 1, f"event {event.key} acted on by {len(acted)} processes"
         for index in acted:
             self.acted[index] = self.acted.get(index, 0) + 1
