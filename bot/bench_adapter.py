@@ -1,9 +1,10 @@
 """Benchmark (not a test): time to handle one answer end to end on loopback.
 
 Measures, for each answer of simulated rounds, the time from the button press (the stand-in
-queues the callback update) until the bot has edited the answered question *and* sent the
-next question or the proposal. Real PTB Application, real polling over HTTP on 127.0.0.1,
-real SQLite file. Run: ``python -m bot.bench_adapter [--rounds 3] [--members 4]``.
+queues the callback update) until the bot has stored the answer and edited the answered
+question (buttons gone); the next questions are sent in the same step. Real PTB Application,
+real polling over HTTP on 127.0.0.1, real SQLite file.
+Run: ``python -m bot.bench_adapter [--rounds 3] [--members 4]``.
 """
 
 from __future__ import annotations
@@ -79,20 +80,27 @@ async def _answer_all(
     def proposal() -> bool:
         return any("Suggested split" in (m.text or "") for m in world.messages if m.from_bot)
 
-    while not proposal():
-        person, message = await standin.wait_for(open_question, timeout=20)
+    def next_step() -> tuple[SimUser, SimMessage] | str | None:
+        return open_question() or ("proposal" if proposal() else None)
+
+    while True:
+        found = await standin.wait_for(next_step, timeout=20)
+        if not isinstance(found, tuple):  # the proposal arrived: every question is answered
+            return
+        person, message = found
         done.add((message.chat.id, message.message_id))
         labels = {b.text: b.callback_data for row in message.buttons() for b in row}
         tenant = tenants[str(person.id)]
         prices = _prices(message)
         choices = [i for i, room in enumerate(ROOMS) if f"I'd take {room}" in labels]
         room = tenant.choose(prices, choices, 0)
-        sent_before = len(world.messages)
         started = time.perf_counter()
         world.user_presses(person, message, labels[f"I'd take {ROOMS[room]}"] or "")
 
-        def handled(m: SimMessage = message, n: int = sent_before) -> bool:
-            return not m.buttons() and (len(world.messages) > n or proposal())
+        def handled(m: SimMessage = message) -> bool:
+            # the answer is stored and acknowledged once its message has lost its buttons
+            # (several questions may be open at once, so no new message need follow)
+            return not m.buttons()
 
         await standin.wait_for(handled)
         timings.append(time.perf_counter() - started)
