@@ -11,7 +11,7 @@ import sys
 
 from pydantic import ValidationError
 
-from bot.app import ALLOWED_UPDATES, build_application
+from bot.app import ALLOWED_UPDATES, WEBHOOK_PATH, build_application
 from bot.config import Settings, describe_error
 
 USAGE_ERROR = 2
@@ -39,7 +39,7 @@ def main() -> int:
         app.run_webhook(
             listen=settings.webhook_listen,
             port=settings.webhook_port,
-            url_path="telegram",
+            url_path=WEBHOOK_PATH,
             webhook_url=(settings.webhook_url or "").rstrip("/"),
             secret_token=secret,
             allowed_updates=ALLOWED_UPDATES,

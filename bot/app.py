@@ -10,6 +10,7 @@ from __future__ import annotations
 import logging
 from collections.abc import AsyncIterator
 from contextlib import asynccontextmanager
+from dataclasses import dataclass
 from typing import Any
 
 from telegram import BotCommand, Update
@@ -38,6 +39,8 @@ log = logging.getLogger(__name__)
 #: Flood control: retry a 429 this many times, waiting retry_after each time.
 FLOOD_RETRIES = 3
 ALLOWED_UPDATES = [Update.MESSAGE, Update.CALLBACK_QUERY]
+#: The path of the webhook endpoint (behind the reverse proxy: https://<host>/telegram).
+WEBHOOK_PATH = "telegram"
 
 
 def build_application(settings: Settings, *, clock: Clock = system_clock) -> AnyApp:
@@ -120,18 +123,45 @@ async def _log_error(update: object, context: Any) -> None:
             log.debug("could not answer the failed button press")
 
 
+@dataclass(frozen=True, slots=True)
+class Webhook:
+    """Where this process listens for updates Telegram POSTs, and the secret it checks."""
+
+    listen: str
+    port: int
+    url: str
+    secret: str | None
+
+
 @asynccontextmanager
-async def running(app: AnyApp, *, poll_timeout: int = 1) -> AsyncIterator[AnyApp]:
-    """Initialise, post_init, start polling; on exit stop it all as run_polling would."""
+async def running(
+    app: AnyApp, *, poll_timeout: int = 1, webhook: Webhook | None = None
+) -> AsyncIterator[AnyApp]:
+    """Initialise, post_init, start polling (or the webhook); on exit stop it all.
+
+    The same steps as PTB's ``run_polling`` / ``run_webhook``, inside an event loop the caller
+    owns (tests, the demo). With ``webhook``, PTB's webhook server answers a request whose
+    ``X-Telegram-Bot-Api-Secret-Token`` header is wrong or missing with 403 and drops it.
+    """
     await app.initialize()
     try:
         if app.post_init is not None:
             await app.post_init(app)
         await app.start()
         assert app.updater is not None
-        await app.updater.start_polling(
-            poll_interval=0.0, timeout=poll_timeout, allowed_updates=ALLOWED_UPDATES
-        )
+        if webhook is None:
+            await app.updater.start_polling(
+                poll_interval=0.0, timeout=poll_timeout, allowed_updates=ALLOWED_UPDATES
+            )
+        else:
+            await app.updater.start_webhook(
+                listen=webhook.listen,
+                port=webhook.port,
+                url_path=WEBHOOK_PATH,
+                webhook_url=webhook.url,
+                secret_token=webhook.secret,
+                allowed_updates=ALLOWED_UPDATES,
+            )
         try:
             yield app
         finally:
@@ -143,4 +173,11 @@ async def running(app: AnyApp, *, poll_timeout: int = 1) -> AsyncIterator[AnyApp
             await app.post_shutdown(app)
 
 
-__all__ = ["ALLOWED_UPDATES", "build_application", "running", "runtime_of"]
+__all__ = [
+    "ALLOWED_UPDATES",
+    "WEBHOOK_PATH",
+    "Webhook",
+    "build_application",
+    "running",
+    "runtime_of",
+]

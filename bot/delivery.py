@@ -54,6 +54,10 @@ log = logging.getLogger(__name__)
 NOT_MODIFIED = "message is not modified"
 
 
+#: A message claimed for sending this long ago was lost with its process: send it again.
+STALE_CLAIM_SECONDS = 120
+
+
 class SendLater(Exception):
     """Telegram or the network is not taking messages now; keep the rest pending."""
 
@@ -80,9 +84,16 @@ class Delivery:
             async with self.store.transaction() as tx:
                 rows = await tx.outgoing(OutboxState.PENDING)
             for row in rows:
+                now = self.clock()
+                async with self.store.transaction() as tx:
+                    claimed = await tx.claim_outgoing(row.id, now, now - STALE_CLAIM_SECONDS)
+                if not claimed:  # another bot process is sending it
+                    continue
                 try:
                     await self._deliver(row)
                 except SendLater as reason:
+                    async with self.store.transaction() as tx:
+                        await tx.release_claim(row.id)
                     log.warning("sending paused, will retry: %s", reason)
                     return False
             return True

@@ -159,6 +159,11 @@ MIGRATIONS: tuple[Migration, ...] = (
         "questions the walk no longer needs (a look-ahead guess that did not come true)",
         ("ALTER TABLE questions ADD COLUMN withdrawn_at INTEGER",),
     ),
+    Migration(
+        5,
+        "outbox claims, so that several bot processes never send the same message twice",
+        ("ALTER TABLE outbox ADD COLUMN claimed_at INTEGER",),
+    ),
 )
 
 

@@ -141,7 +141,7 @@ class AuditRecord:
 class OutboxState:
     """Where an outgoing message stands, stored as text."""
 
-    PENDING = "pending"  # committed by the engine, not yet sent
+    PENDING = "pending"  # committed by the engine, not yet sent (maybe claimed for sending)
     HELD = "held"  # the person has not opened a private chat with the bot yet
     SENT = "sent"
     DROPPED = "dropped"  # Telegram refused it for good (e.g. the bot was removed)

@@ -33,6 +33,7 @@ from bot.records import (
     AuditRecord,
     MemberRecord,
     OutboxRecord,
+    OutboxState,
     QuestionRecord,
     RoundRecord,
     TimerRecord,
@@ -487,12 +488,30 @@ class SqliteTransaction:
         rows = await self._all(sql + " ORDER BY id", params)
         return [OutboxRecord(*row) for row in rows]
 
+    async def claim_outgoing(self, outbox_id: int, at: int, stale_before: int) -> bool:
+        """Take a pending message for sending; False if another process holds it.
+
+        One conditional UPDATE, so two processes sharing the outbox never both send a row
+        (with PostgreSQL the second UPDATE waits for the first to commit, then matches nothing).
+        A claim older than ``stale_before`` was left by a process that stopped mid-send.
+        """
+        row = await self._one(
+            "UPDATE outbox SET claimed_at = ? WHERE id = ? AND state = ? "
+            "AND (claimed_at IS NULL OR claimed_at < ?) RETURNING id",
+            (at, outbox_id, OutboxState.PENDING, stale_before),
+        )
+        return row is not None
+
+    async def release_claim(self, outbox_id: int) -> None:
+        """Give a claimed message back (sending must wait): any process may send it later."""
+        await self._run("UPDATE outbox SET claimed_at = NULL WHERE id = ?", (outbox_id,))
+
     async def set_outgoing_state(
         self, outbox_id: int, state: str, at: int, message_id: int | None = None
     ) -> None:
         await self._run(
-            "UPDATE outbox SET state = ?, sent_at = ?, message_id = COALESCE(?, message_id) "
-            "WHERE id = ?",
+            "UPDATE outbox SET state = ?, sent_at = ?, message_id = COALESCE(?, message_id), "
+            "claimed_at = NULL WHERE id = ?",
             (state, at, message_id, outbox_id),
         )
 

@@ -43,6 +43,7 @@ OUTBOX_COLUMNS = (
     "message_id",
     "created_at",
     "sent_at",
+    "claimed_at",
 )
 
 
