@@ -21,10 +21,6 @@ from bot.records import AuditKind, RoundRecord, TimerKind
 from bot.settings import Extras, RoundSettings, amend_settings, build_settings
 from solver import InvalidAnswer, InvalidProblem, Options, Walk
 
-#: Every round asks idle members ahead of time: measured with ``python -m solver.bench``, this
-#: cuts median waiting rounds by about 35% for four members for about 16% more questions.
-WALK_OPTIONS = Options(look_ahead=True)
-
 
 async def open_round_of(ctx: Context, group_id: int) -> RoundRecord:
     record = await ctx.tx.open_round(group_id)
@@ -169,7 +165,8 @@ async def begin_asking(ctx: Context, group_id: int, actor: Actor) -> None:
     reuse = await earlier.plan(ctx, record, members)
     try:
         problem = record.settings.problem([str(m.user_id) for m in members])
-        walk = Walk.start(problem, options=WALK_OPTIONS, earlier=reuse.earlier)
+        options = Options(look_ahead=ctx.config.look_ahead)
+        walk = Walk.start(problem, options=options, earlier=reuse.earlier)
     except (InvalidProblem, InvalidAnswer) as exc:
         raise InvalidSetup(f"the questions cannot start with these settings: {exc}") from exc
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)

@@ -4,8 +4,10 @@ from __future__ import annotations
 
 from collections import deque
 
-from flat_scenario import GROUP, RENT_TEXT, ROOMS, people, tenants_for
+from flat_scenario import GROUP, RENT_TEXT, ROOMS, SECRET, people, tenants_for
 
+from bot.clock import ManualClock
+from bot.context import EngineConfig
 from bot.engine import Engine
 from bot.events import Press
 from bot.invariants import check_dump
@@ -15,8 +17,9 @@ from bot.sqlite_store import SqliteStore
 
 
 async def test_parallel_questions_and_withdrawn_ones_are_refused_unchanged(
-    engine: Engine, store: SqliteStore
+    store: SqliteStore, clock: ManualClock
 ) -> None:
+    engine = Engine(store, clock=clock, config=EngineConfig(SECRET, look_ahead=True))
     members = people(4)
     play = Rehearsal(engine, GROUP, members[0], members, tenants_for(members, 7))
     waiting = deque(await play.set_up(RENT_TEXT, ROOMS[:4]))
