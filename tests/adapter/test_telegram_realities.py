@@ -190,3 +190,26 @@ async def test_commands_for_another_bot_are_ignored(standin: BotApiStandIn, db_p
         status = await flat.wait_group("No round yet")
         assert status.reply_to is not None
     assert flat.group_texts() == [status.text]
+
+
+async def test_group_upgraded_to_a_supergroup_keeps_its_round(
+    standin: BotApiStandIn, db_path: Path
+) -> None:
+    # Bot API: after an upgrade the old chat id answers 400 with parameters.migrate_to_chat_id
+    # (ResponseParameters in the spec), and service messages carry migrate_to/from_chat_id.
+    flat = Flat.invent(standin, db_path, size=3, rent=1_500_00, seed=11)
+    world = standin.world
+    async with running(app_for(standin, db_path)):
+        await set_up_and_join(flat, "1500.00 EUR", "10")
+        await flat.play_until_settled(stop_after_answers=2)
+        old_group = flat.group
+        flat.group = world.upgrade_to_supergroup(old_group)
+        upgraded_at = len(world.messages_in(old_group))
+        world.user_says(flat.admin, flat.group, "/status")
+        status = await flat.wait_group("answered")
+        assert status.chat.id == flat.group.id
+        settled = await flat.play_until_settled()
+        assert settled is not None and settled.chat.id == flat.group.id
+        late = [m for m in world.messages_in(old_group)[upgraded_at:] if m.from_bot]
+        assert late == []  # nothing more went to the old id once the move was known
+    await check_agreement(flat, tolerance=10_00)
