@@ -18,8 +18,8 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from bot.app import build_application, running
-from bot.config import Settings
 from bot.sandbox import BotApiStandIn, SimMessage, SimUser
+from bot.sandbox.bot_settings import settings_for
 from solver import Problem
 from solver.simulate import Tenant, random_tenants
 
@@ -38,13 +38,8 @@ async def one_round(members: int, seed: int, timings: list[float]) -> None:
         problem = Problem(rent, ROOMS[:members], tuple(str(p.id) for p in people))
         tenants = random_tenants(problem, "quasi-linear", seed)
         with tempfile.TemporaryDirectory() as folder:
-            settings = Settings(
-                bot_token=standin.token,  # type: ignore[arg-type]
-                database=str(Path(folder) / "bench.sqlite3"),
-                base_url=standin.base_url,
-                base_file_url=standin.base_file_url,
-                group_messages_per_minute=100_000,
-                _env_file=None,  # type: ignore[call-arg]
+            settings = settings_for(
+                standin, Path(folder) / "bench.sqlite3", group_messages_per_minute=100_000
             )
             async with running(build_application(settings)):
                 rooms = ", ".join(ROOMS[:members])

@@ -20,7 +20,6 @@ from rich.console import Console
 from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
 from bot.app import build_application, running
-from bot.config import Settings
 from bot.demo_flat import (
     ADDRESS,
     CURRENCY,
@@ -35,6 +34,7 @@ from bot.demo_player import TerminalPlayer
 from bot.demo_transcript import Transcript
 from bot.runtime import RUNTIME_KEY, AnyApp, Runtime
 from bot.sandbox import BotApiStandIn, SimChat, SimMessage
+from bot.sandbox.bot_settings import settings_for
 from bot.sandbox.flatmates import Flatmate, Household, Mind
 from bot.status import StatusFacts
 from solver import Walk
@@ -87,20 +87,6 @@ class DemoResult:
     def envy(self, name: str) -> float:
         """How much more (minor units) ``name`` would pay to swap, by their own values."""
         return self.tenants[name].envy(self.prices, self.assignment[name])
-
-
-def settings_for(standin: BotApiStandIn, database: Path) -> Settings:
-    """The bot pointed at the stand-in; the group rate is raised so the demo does not wait
-    for Telegram's real group limit (about 20 messages a minute)."""
-    return Settings(
-        bot_token=standin.token,  # type: ignore[arg-type]
-        database=str(database),
-        base_url=standin.base_url,
-        base_file_url=standin.base_file_url,
-        group_messages_per_minute=6000,
-        retry_every=0.5,
-        _env_file=None,  # type: ignore[call-arg]
-    )
 
 
 def fresh_database(out: Path) -> Path:

@@ -61,22 +61,30 @@ def shared_by_member(record: RoundRecord, members: Sequence[MemberRecord]) -> di
     return {m.user_id: part for m, part in zip(members, parts, strict=True)}
 
 
+def placements(
+    record: RoundRecord, members: list[MemberRecord], proposal: Proposal
+) -> list[tuple[MemberRecord, int, int]]:
+    """Who takes which let room and their shared part, in room order (proposals, agreements)."""
+    by_id = {str(m.user_id): m for m in members}
+    shared = shared_by_member(record, members)
+    ordered = sorted(proposal.assignment.items(), key=lambda item: item[1])
+    return [(by_id[member], room, shared[by_id[member].user_id]) for member, room in ordered]
+
+
 def division_facts(
     record: RoundRecord, members: list[MemberRecord], proposal: Proposal, proposal_no: int
 ) -> DivisionFacts:
     s = record.settings
-    names = {str(m.user_id): m for m in members}
-    shared = shared_by_member(record, members)
     lines = tuple(
         DivisionLine(
-            member=names[member].display_name,
-            user_id=names[member].user_id,
+            member=who.display_name,
+            user_id=who.user_id,
             room_index=room,
             room=s.rooms[room],
             price=proposal.prices[room],
-            shared=shared[names[member].user_id],
+            shared=part,
         )
-        for member, room in sorted(proposal.assignment.items(), key=lambda item: item[1])
+        for who, room, part in placements(record, members, proposal)
     )
     return DivisionFacts(
         round_id=record.id,
@@ -89,7 +97,7 @@ def division_facts(
         envy_bound=proposal.envy_bound,
         accepted=sum(1 for m in members if m.accepted_at is not None),
         members=len(members),
-        shared_total=sum(shared.values()),
+        shared_total=sum(line.shared for line in lines),
         empty_rooms=tuple(s.rooms[r] for r in proposal.empty_rooms),
         empty_prices=tuple(proposal.prices[r] for r in proposal.empty_rooms),
     )
@@ -104,21 +112,19 @@ def agreement_facts(
     any other answer.
     """
     s = record.settings
-    names = {str(m.user_id): m for m in members}
-    shared = shared_by_member(record, members)
     evidence = {e.member: e for e in proposal.evidence}
     lines = tuple(
         AgreementLine(
-            member=names[member].display_name,
-            user_id=names[member].user_id,
+            member=who.display_name,
+            user_id=who.user_id,
             room_index=room,
             room=s.rooms[room],
             price=proposal.prices[room],
-            shared=shared[names[member].user_id],
-            accepted_at=names[member].accepted_at or record.updated_at,
-            evidence_prices=evidence[member].prices,
+            shared=part,
+            accepted_at=who.accepted_at or record.updated_at,
+            evidence_prices=evidence[str(who.user_id)].prices,
         )
-        for member, room in sorted(proposal.assignment.items(), key=lambda item: item[1])
+        for who, room, part in placements(record, members, proposal)
     )
     return AgreementFacts(
         round_id=record.id,

@@ -7,16 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from bot.sandbox import BotApiSpec, BotApiStandIn, SpecNotFound, load_spec, spec_path
-
-
-@pytest.fixture(scope="session")
-def spec() -> BotApiSpec:
-    """Telegram Bot API spec, ../shared/telegram-bot-api/api.json (or $FLATPACT_BOT_API_SPEC)."""
-    try:
-        return load_spec()
-    except SpecNotFound:
-        pytest.skip(f"Bot API spec not found at {spec_path()}: set FLATPACT_BOT_API_SPEC")
+from bot.sandbox import BotApiSpec, BotApiStandIn
 
 
 @pytest.fixture

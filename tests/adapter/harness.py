@@ -18,11 +18,11 @@ from typing import Any
 from babel.numbers import format_currency
 
 from bot.app import build_application
-from bot.config import Settings
 from bot.messages import QuestionFacts
 from bot.outbox_codec import decode
 from bot.runtime import RUNTIME_KEY, AnyApp, Runtime
 from bot.sandbox import BotApiStandIn, SimChat, SimMessage, SimUser
+from bot.sandbox.bot_settings import settings_for
 from bot.sqlite_store import SqliteStore
 from solver import Problem
 from solver.simulate import Tenant, random_tenants
@@ -45,20 +45,6 @@ OUTBOX_COLUMNS = (
     "sent_at",
     "claimed_at",
 )
-
-
-def settings_for(standin: BotApiStandIn, db_path: Path, **extra: Any) -> Settings:
-    """Flatpact pointed at the stand-in; group rate raised so tests do not wait a minute."""
-    return Settings(
-        bot_token=standin.token,  # type: ignore[arg-type]
-        database=str(db_path),
-        base_url=standin.base_url,
-        base_file_url=standin.base_file_url,
-        group_messages_per_minute=6000,
-        retry_every=0.5,
-        _env_file=None,  # type: ignore[call-arg]
-        **extra,
-    )
 
 
 def app_for(standin: BotApiStandIn, db_path: Path) -> AnyApp:
