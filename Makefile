@@ -19,7 +19,7 @@ test: $(STAMP)
 	$(BIN)/ruff check .
 	$(BIN)/ruff format --check .
 	$(BIN)/mypy
-	$(BIN)/pytest -q
+	$(BIN)/pytest -q -rs
 
 bench: $(STAMP)
 	$(BIN)/python -m solver.bench $(ARGS)

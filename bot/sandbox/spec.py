@@ -21,26 +21,19 @@ ARRAY_PREFIX = "Array of "
 
 
 class SpecNotFound(FileNotFoundError):
-    """The spec file is missing; tests that need it skip, the sandbox cannot run without it."""
+    """The spec file is missing (only possible when ``$FLATPACT_BOT_API_SPEC`` points nowhere)."""
 
 
-def project_root() -> Path:
-    """The directory holding pyproject.toml, found from this file so the cwd does not matter."""
-    for candidate in Path(__file__).resolve().parents:
-        if (candidate / "pyproject.toml").is_file():
-            return candidate
-    raise SpecNotFound(
-        "Cannot find the project root (no pyproject.toml above bot/sandbox): "
-        f"set {SPEC_PATH_VARIABLE} to the path of the Bot API api.json"
-    )
+#: The vendored copy (see ``botapi/SOURCE.md`` for its source, version and licence).
+VENDORED_SPEC = Path(__file__).resolve().parent / "botapi" / "api.json"
 
 
 def spec_path() -> Path:
-    """Where the spec is read from: the environment variable, else the shared folder."""
+    """Where the spec is read from: ``$FLATPACT_BOT_API_SPEC`` if set, else the vendored copy."""
     configured = os.environ.get(SPEC_PATH_VARIABLE)
     if configured:
         return Path(configured)
-    return project_root().parent / "shared" / "telegram-bot-api" / "api.json"
+    return VENDORED_SPEC
 
 
 @dataclass(frozen=True)
@@ -121,7 +114,7 @@ def load_spec(path: Path | None = None) -> BotApiSpec:
     resolved = path or spec_path()
     if not resolved.is_file():
         raise SpecNotFound(
-            f"Bot API spec not found at {resolved}: set {SPEC_PATH_VARIABLE} to the path of "
-            "api.json (a copy lives in ../shared/telegram-bot-api/ next to the project)"
+            f"Bot API spec not found at {resolved}: set {SPEC_PATH_VARIABLE} to the path of an "
+            f"api.json, or unset it to use the copy shipped with Flatpact ({VENDORED_SPEC})"
         )
     return _load_cached(resolved.resolve())

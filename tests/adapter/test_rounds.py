@@ -1,6 +1,6 @@
 """Whole rounds through the real bot: set-up, joining, private questions, proposal, agreement.
 
-Outside references: the Telegram Bot API spec (../shared/telegram-bot-api/api.json) checks
+Outside references: the Telegram Bot API spec (bot/sandbox/botapi/api.json) checks
 every call (fixture ``standin``); Babel's CLDR data formats the expected amounts. The flat and
 its people are invented (tests/adapter/harness.py).
 """

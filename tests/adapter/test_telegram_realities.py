@@ -1,7 +1,7 @@
 """What Telegram throws at a bot: people who never started it, flood control, restarts, forged
 or stale buttons, guided set-up under privacy mode, commands meant for another bot.
 
-Outside reference: the Telegram Bot API spec (../shared/telegram-bot-api/api.json) validates
+Outside reference: the Telegram Bot API spec (bot/sandbox/botapi/api.json) validates
 every call through the ``standin`` fixture; error wording is Telegram's (bot/sandbox/errors.py).
 The flat and its people are invented.
 """

@@ -1,7 +1,7 @@
 """The demo end to end, in-process: the real bot, the stand-in, invented simulated flatmates.
 
 Outside references: the Telegram Bot API spec (the stand-in checks every call against
-../shared/telegram-bot-api/api.json); the PNG specification for the file's signature and
+bot/sandbox/botapi/api.json); the PNG specification for the file's signature and
 header; Babel's CLDR data to format the amounts we look for in the printed summary. The
 division is read back from the bot's SQLite file, and envy is computed here from each
 flatmate's hidden values, not taken from the demo's own table.

@@ -1,6 +1,6 @@
 """A real telegram.ext.Application polls the stand-in and its handlers answer simulated people.
 
-Outside reference: Telegram Bot API spec, ../shared/telegram-bot-api/api.json (every call the
+Outside reference: Telegram Bot API spec, bot/sandbox/botapi/api.json (every call the
 Application makes, including getUpdates with its offset/timeout, is validated against it).
 The flat and its people are invented.
 """

@@ -1,6 +1,6 @@
 """A real telegram.Bot calls every implemented method over HTTP on 127.0.0.1.
 
-Outside reference: Telegram Bot API spec, ../shared/telegram-bot-api/api.json. Every response is
+Outside reference: Telegram Bot API spec, bot/sandbox/botapi/api.json. Every response is
 validated against the spec's return types (standin.response_violations); error wordings follow
 Telegram's documented/observed texts, which PTB maps to its exception classes.
 The flat and its people are invented.
@@ -293,7 +293,7 @@ async def test_group_migration_surfaces_as_chat_migrated(
 async def test_invalid_calls_are_refused_and_recorded(
     standin: BotApiStandIn, bot: Bot, flat
 ) -> None:
-    # Telegram Bot API spec, ../shared/telegram-bot-api/api.json: sendMessage.chat_id required,
+    # Telegram Bot API spec, bot/sandbox/botapi/api.json: sendMessage.chat_id required,
     # text "1-4096 characters", InlineKeyboardButton.callback_data "1-64 bytes"
     group, *_ = flat
     with pytest.raises(BadRequest, match="chat_id is required"):

@@ -1,6 +1,6 @@
 """The spec loader and the limits parsed from the spec's prose.
 
-Outside reference for every check here: Telegram Bot API spec, ../shared/telegram-bot-api/api.json.
+Outside reference for every check here: Telegram Bot API spec, bot/sandbox/botapi/api.json.
 """
 
 from __future__ import annotations
@@ -23,17 +23,22 @@ def test_missing_spec_raises_an_error_that_says_how_to_fix_it(tmp_path: Path) ->
     assert str(missing) in str(raised.value)
 
 
-def test_spec_path_defaults_to_the_shared_folder_beside_the_project(
+def test_spec_path_defaults_to_the_copy_inside_the_repository(
     monkeypatch: pytest.MonkeyPatch,
 ) -> None:
     monkeypatch.delenv(SPEC_PATH_VARIABLE, raising=False)
-    assert spec_path() == PROJECT_ROOT.parent / "shared" / "telegram-bot-api" / "api.json"
+    assert spec_path() == PROJECT_ROOT / "bot" / "sandbox" / "botapi" / "api.json"
+    assert spec_path().is_file()
+    # The vendored copy keeps its licence and a note of its source and version beside it.
+    notes = (spec_path().parent / "SOURCE.md").read_text(encoding="utf-8")
+    assert "Bot API 10.1" in notes and "160fd99507e1c7c77e92dc90f5993d724735b51c" in notes
+    assert "MIT License" in (spec_path().parent / "LICENSE").read_text(encoding="utf-8")
     monkeypatch.setenv(SPEC_PATH_VARIABLE, "/somewhere/else.json")
     assert spec_path() == Path("/somewhere/else.json")
 
 
 def test_spec_has_the_methods_and_types_the_sandbox_serves(spec: BotApiSpec) -> None:
-    # Telegram Bot API spec, ../shared/telegram-bot-api/api.json
+    # Telegram Bot API spec, bot/sandbox/botapi/api.json
     for name in ("getMe", "getUpdates", "sendMessage", "editMessageText", "answerCallbackQuery"):
         assert spec.method(name) is not None, name
     assert spec.methods["sendMessage"].fields["chat_id"].required
@@ -58,7 +63,7 @@ DOCUMENTED_LIMITS = [
 def test_parsed_limit_matches_the_spec_description(
     spec: BotApiSpec, owner: str, field: str, phrase: str, expected: Limit
 ) -> None:
-    # Telegram Bot API spec, ../shared/telegram-bot-api/api.json: the phrase is quoted from the
+    # Telegram Bot API spec, bot/sandbox/botapi/api.json: the phrase is quoted from the
     # field's description there, and the parser must turn exactly that phrase into the limit.
     holder = spec.methods.get(owner) or spec.types[owner]
     spec_field = holder.fields[field]
@@ -67,7 +72,7 @@ def test_parsed_limit_matches_the_spec_description(
 
 
 def test_every_documented_text_range_on_a_string_field_becomes_a_limit(spec: BotApiSpec) -> None:
-    # Telegram Bot API spec, ../shared/telegram-bot-api/api.json: scan all String fields; each
+    # Telegram Bot API spec, bot/sandbox/botapi/api.json: scan all String fields; each
     # "N-M characters|bytes" in a description must yield the first such range as the limit.
     phrase = re.compile(r"(\d+)-(\d+) (characters|bytes)", re.IGNORECASE)
     checked = 0

@@ -1,6 +1,6 @@
 """The call validator finds what the spec forbids and accepts what it allows.
 
-Outside reference: Telegram Bot API spec, ../shared/telegram-bot-api/api.json (required fields,
+Outside reference: Telegram Bot API spec, bot/sandbox/botapi/api.json (required fields,
 field names and types, and the limits quoted in its descriptions).
 """
 

@@ -1,6 +1,6 @@
 """Webhook delivery by the stand-in, received by a tiny tornado server using bot.webhook_guard.
 
-Outside reference: Telegram Bot API spec, ../shared/telegram-bot-api/api.json, setWebhook:
+Outside reference: Telegram Bot API spec, bot/sandbox/botapi/api.json, setWebhook:
 updates arrive as an HTTPS POST with a JSON-serialised Update, the header
 "X-Telegram-Bot-Api-Secret-Token" carries secret_token, and a non-2XY answer is repeated.
 All servers listen on 127.0.0.1 only; every wait is bounded. The flat is invented.
