@@ -11,8 +11,8 @@ import sys
 
 from pydantic import ValidationError
 
-from bot.app import ALLOWED_UPDATES, WEBHOOK_PATH, build_application
-from bot.config import Settings, describe_error
+from bot.adapter.application import ALLOWED_UPDATES, WEBHOOK_PATH, build_application
+from bot.adapter.process_settings import Settings, describe_error
 
 USAGE_ERROR = 2
 

@@ -1,7 +1,7 @@
 """What a formatted text looks like once Telegram has parsed its markup.
 
 Length limits marked "after entities parsing" count the visible text, not the HTML or Markdown
-source, so the validator and the stored transcript both need the visible text.
+source, so the validator and the stored chat log both need the visible text.
 """
 
 from __future__ import annotations

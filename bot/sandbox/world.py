@@ -1,7 +1,7 @@
 """The simulated Telegram world a test drives: people, chats, what they say and press.
 
 Tests act as the flatmates (say something, press a button, open a private chat); the bot acts
-through the Bot API. Everything both sides did is kept as a transcript the test can read.
+through the Bot API. Everything both sides did is kept as a chat log the test can read.
 """
 
 from __future__ import annotations
@@ -266,7 +266,7 @@ class World:
         return message
 
     def messages_in(self, chat: SimChat) -> list[SimMessage]:
-        """The chat's transcript in order, without deleted messages."""
+        """The chat's log in order, without deleted messages."""
         return [m for m in self.messages if m.chat is chat and not m.deleted]
 
     def last_message_to(self, chat: SimChat) -> SimMessage | None:

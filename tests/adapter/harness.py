@@ -1,35 +1,38 @@
 """Acting as invented flatmates against the real bot: a real Application polls the stand-in.
 
-The flat (12 Sorrel Lane), its rooms, people and amounts are invented for these tests.
-Simulated tenants from :mod:`solver.simulate` decide every answer from the prices the bot
-committed with each question (read back from the outbox row of that very message).
+The flat is the demo's invented one (:mod:`bot.demo.flat`: its address, rooms and people) and
+the flatmates are the demo's (:class:`bot.demo.flatmates.Household`), taking turns in a fixed
+order so runs repeat. Simulated tenants from :mod:`solver.simulate` decide every answer from
+the prices shown in the question's text; :meth:`Flat.answer` also checks them against the
+prices the bot committed with that very message (its outbox row).
 """
 
 from __future__ import annotations
 
 import asyncio
 import json
-from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from decimal import Decimal
 from pathlib import Path
 from typing import Any
 
 from babel.numbers import format_currency
 
-from bot.app import build_application
-from bot.messages import QuestionFacts
-from bot.outbox_codec import decode
-from bot.runtime import RUNTIME_KEY, AnyApp, Runtime
+from bot.adapter.application import build_application
+from bot.adapter.runtime import RUNTIME_KEY, AnyApp, Runtime
+from bot.demo.flat import ADDRESS, CURRENCY, DECIMALS, FLATMATES, SimulatedMind
+from bot.demo.flat import ROOMS as DEMO_ROOMS
+from bot.demo.flatmates import Flatmate, Household
+from bot.demo.standin_settings import settings_for
+from bot.rounds.messages import QuestionFacts
+from bot.rounds.outbox_codec import decode
 from bot.sandbox import BotApiStandIn, SimChat, SimMessage, SimUser
-from bot.sandbox.bot_settings import settings_for
-from bot.sqlite_store import SqliteStore
+from bot.storage.sqlite import SqliteStore
 from solver import Problem
 from solver.simulate import Tenant, random_tenants
 
-ROOMS = ("Skylight", "Corner", "Garden side", "Nook", "Long room")
-NAMES = ("Odile", "Farid", "Mirela", "Tane", "Yusuf")
-CURRENCY = "EUR"
+ROOMS = tuple(room.name for room in DEMO_ROOMS)
+NAMES = FLATMATES
 OUTBOX_COLUMNS = (
     "id",
     "event_key",
@@ -78,16 +81,28 @@ class Flat:
 
     standin: BotApiStandIn
     db_path: Path
-    group: SimChat
     people: list[SimUser]
     tenants: dict[int, Tenant]
     rent: int
-    pressed: set[tuple[int, int, int, str]] = field(default_factory=set)
-    answers: int = 0
+    household: Household
+
+    @property
+    def group(self) -> SimChat:
+        """The group chat (after a supergroup upgrade, the new one: set it here)."""
+        return self.household.group
+
+    @group.setter
+    def group(self, chat: SimChat) -> None:
+        self.household.group = chat
 
     @property
     def admin(self) -> SimUser:
         return self.people[0]
+
+    @property
+    def answers(self) -> int:
+        """Questions the flatmates have answered so far."""
+        return sum(mate.answered for mate in self.household.flatmates)
 
     @classmethod
     def invent(
@@ -102,15 +117,16 @@ class Flat:
     ) -> Flat:
         world = standin.world
         people = [world.add_user(NAMES[i], language_code="en") for i in range(size)]
-        group = world.add_group("12 Sorrel Lane", people)
+        group = world.add_group(ADDRESS, people)
         if open_chats:
             for person in people:
                 world.user_opens_private_chat(person)
         problem = Problem(rent, ROOMS[:size], tuple(str(p.id) for p in people))
         simulated = random_tenants(problem, "quasi-linear", seed)
-        return cls(
-            standin, db_path, group, people, {p.id: simulated[str(p.id)] for p in people}, rent
-        )
+        tenants = {p.id: simulated[str(p.id)] for p in people}
+        mates = [Flatmate(p, SimulatedMind(tenants[p.id])) for p in people]
+        household = Household(standin, group, mates, ROOMS[:size], DECIMALS)
+        return cls(standin, db_path, people, tenants, rent, household)
 
     # --- reading what the bot sent ------------------------------------------------------------
 
@@ -133,37 +149,16 @@ class Flat:
 
         return await self.standin.wait_for(found, timeout)
 
-    def _open_question(self, person: SimUser) -> SimMessage | None:
-        world = self.standin.world
-        if not person.opened_private_chat:
-            return None
-        for message in world.messages_in(world.private_chat_of(person)):
-            handled = (person.id, message.chat.id, message.message_id, "*") in self.pressed
-            if _callback_data(message) and not handled:
-                return message
-        return None
-
-    def _open_proposal(self) -> tuple[SimUser, SimMessage, str] | None:
-        world = self.standin.world
-        for message in world.messages_in(self.group):
-            agree = [
-                b.callback_data
-                for row in message.buttons()
-                for b in row
-                if b.text == "Agree" and b.callback_data
-            ]
-            for person in self.people:
-                for data in agree:
-                    if (person.id, message.chat.id, message.message_id, data) not in self.pressed:
-                        return person, message, data
-        return None
-
     # --- acting -------------------------------------------------------------------------------
 
+    def _mate(self, person: SimUser) -> Flatmate:
+        return next(m for m in self.household.flatmates if m.user.id == person.id)
+
     async def press(self, person: SimUser, message: SimMessage, data: str) -> None:
-        self.pressed.add((person.id, message.chat.id, message.message_id, data))
-        record = self.standin.world.user_presses(person, message, data)
-        await self.standin.wait_for(lambda: record.answered, timeout=10)
+        """Press as this person; their flatmate will not act on that message again."""
+        mate = self._mate(person)
+        mate.seen.add((message.chat.id, message.message_id))
+        await self.household.press(mate, message, data)
 
     async def answer(self, person: SimUser, message: SimMessage) -> None:
         """The tenant picks a room from the prices committed with this very message."""
@@ -175,8 +170,7 @@ class Flat:
         label = f"I'd take {facts.rooms[room]}"
         data = next(b.callback_data for row in message.buttons() for b in row if b.text == label)
         assert data is not None
-        self.answers += 1
-        self.pressed.add((person.id, message.chat.id, message.message_id, "*"))
+        self._mate(person).answered += 1
         await self.press(person, message, data)
 
     async def question_facts(self, message: SimMessage) -> QuestionFacts:
@@ -206,10 +200,14 @@ class Flat:
         stop_when_group_sees: str | None = None,
         timeout: float = 60,
     ) -> SimMessage | None:
-        """Answer questions and agree to proposals until the group sees the agreement."""
+        """The flatmates answer and agree, in turns, until the group sees the agreement.
+
+        Returns the agreement message, or None when stopped early (after that many answers,
+        or once the group saw that text).
+        """
         world = self.standin.world
 
-        def next_step() -> Any:
+        def done() -> tuple[SimMessage | None] | None:
             settled = next(
                 (
                     m
@@ -219,28 +217,14 @@ class Flat:
                 None,
             )
             if settled is not None:
-                return ("settled", settled)
+                return (settled,)
             if stop_when_group_sees and any(stop_when_group_sees in t for t in self.group_texts()):
-                return ("stop",)
-            for person in self.people:
-                question = self._open_question(person)
-                if question is not None:
-                    return ("question", person, question)
-            proposal = self._open_proposal()
-            return ("agree", *proposal) if proposal else None
-
-        while True:
-            step = await self.standin.wait_for(next_step, timeout)
-            if step[0] == "settled":
-                return step[1]  # type: ignore[no-any-return]
-            if step[0] == "stop":
-                return None
+                return (None,)
             if stop_after_answers is not None and self.answers >= stop_after_answers:
-                return None
-            if step[0] == "question":
-                await self.answer(step[1], step[2])
-            else:
-                await self.press(step[1], step[2], step[3])
+                return (None,)
+            return None
+
+        return (await self.household.take_turns(done, timeout=timeout))[0]
 
     async def agreement(self) -> tuple[dict[str, int], list[int]]:
         """The stored agreement (assignment by user id, prices per room) from the audit log."""
@@ -251,7 +235,3 @@ class Flat:
             await store.close()
         detail = json.loads(next(row[5] for row in audit if row[3] == "agreement"))
         return detail["assignment"], detail["prices"]
-
-
-def _callback_data(message: SimMessage) -> Sequence[str]:
-    return [b.callback_data for row in message.buttons() for b in row if b.callback_data]

@@ -10,11 +10,11 @@ from pathlib import Path
 
 from telegram import Bot
 
-from bot.app import running
-from bot.documents import send_agreement
-from bot.messages import AgreementFacts, AgreementLine, Kind, Outgoing, Recipient
+from bot.adapter.application import running
+from bot.adapter.documents import send_agreement
+from bot.rounds.messages import AgreementFacts, AgreementLine, Kind, Outgoing, Recipient
 from bot.sandbox import BotApiStandIn
-from tests.adapter.harness import ROOMS, Flat, app_for, euros
+from tests.adapter.harness import ADDRESS, NAMES, ROOMS, Flat, app_for, euros
 
 
 async def test_shared_costs_round_then_history(standin: BotApiStandIn, db_path: Path) -> None:
@@ -59,8 +59,8 @@ async def test_shared_costs_round_then_history(standin: BotApiStandIn, db_path: 
 
 
 async def test_agreement_is_sent_as_two_documents(standin: BotApiStandIn) -> None:
-    group = standin.world.add_group("12 Sorrel Lane", [standin.world.add_user("Odile")])
-    line = AgreementLine("Odile", 1, 0, "Skylight", 900_00, 0, 1_767_225_600, (900_00, 600_00))
+    group = standin.world.add_group(ADDRESS, [standin.world.add_user(NAMES[0])])
+    line = AgreementLine(NAMES[0], 1, 0, ROOMS[0], 900_00, 0, 1_767_225_600, (900_00, 600_00))
     facts = AgreementFacts(
         3,
         group.id,
@@ -71,7 +71,7 @@ async def test_agreement_is_sent_as_two_documents(standin: BotApiStandIn) -> Non
         ROOMS[:2],
         (),
         (line,),
-        ("Corner",),
+        (ROOMS[1],),
         (600_00,),
         0,
         0,
@@ -87,5 +87,5 @@ async def test_agreement_is_sent_as_two_documents(standin: BotApiStandIn) -> Non
     assert [d.document.filename.rsplit(".", 1)[1] for d in documents] == ["md", "html"]  # type: ignore[union-attr]
     assert documents[-1].message_id == sent_id
     html_text = documents[-1].document.content.decode("utf-8")  # type: ignore[union-attr]
-    assert "<td>Odile</td><td>Skylight</td><td>900.00 EUR</td>" in html_text
-    assert "Corner stays empty" in html_text
+    assert f"<td>{NAMES[0]}</td><td>{ROOMS[0]}</td><td>900.00 EUR</td>" in html_text
+    assert f"{ROOMS[1]} stays empty" in html_text

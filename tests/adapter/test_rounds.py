@@ -9,11 +9,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from bot.app import running
-from bot.keyboards import CALLBACK_DATA_LIMIT
+from bot.adapter.application import running
+from bot.adapter.keyboards import CALLBACK_DATA_LIMIT
+from bot.adapter.texts import COMMANDS
+from bot.rounds.caution import CAUTION
 from bot.sandbox import BotApiStandIn
-from bot.texts import COMMANDS
-from bot.wording import CAUTION
 from tests.adapter.harness import ROOMS, Flat, app_for, euros
 
 

@@ -10,11 +10,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from bot.app import running
-from bot.keyboards import CALLBACK_PREFIX
+from bot.adapter.application import running
+from bot.adapter.keyboards import CALLBACK_PREFIX
 from bot.sandbox import BotApiStandIn
-from bot.sqlite_store import SqliteStore
-from tests.adapter.harness import Flat, app_for, outbox_rows, runtime
+from bot.storage.sqlite import SqliteStore
+from tests.adapter.harness import ROOMS, Flat, app_for, outbox_rows, runtime
 from tests.adapter.test_rounds import check_agreement, set_up_and_join
 
 
@@ -141,8 +141,8 @@ async def test_forged_foreign_double_and_late_presses_are_refused_without_change
 
 async def _first_answer_data(db_path: Path, answered: object) -> str:
     """The callback data of a button the answered question had, from its stored payload."""
-    from bot.keyboards import callback_data
-    from bot.outbox_codec import decode
+    from bot.adapter.keyboards import callback_data
+    from bot.rounds.outbox_codec import decode
 
     rows = await outbox_rows(db_path)
     row = next(
@@ -175,9 +175,9 @@ async def test_guided_set_up_by_replies_under_privacy_mode(
         again = await flat.wait_group("Please reply with the rent again")
         world.user_replies(flat.admin, again, "800.00 EUR")
         ask_rooms = await flat.wait_group("Now the rooms")
-        world.user_replies(flat.admin, ask_rooms, "Skylight, Corner")
+        world.user_replies(flat.admin, ask_rooms, f"{ROOMS[0]}, {ROOMS[1]}")
         opened = await flat.wait_group("The round is open")
-        assert "Rooms: Skylight, Corner." in (opened.text or "")
+        assert f"Rooms: {ROOMS[0]}, {ROOMS[1]}." in (opened.text or "")
 
 
 async def test_commands_for_another_bot_are_ignored(standin: BotApiStandIn, db_path: Path) -> None:

@@ -15,11 +15,11 @@ from pathlib import Path
 
 import httpx
 
-from bot.app import Webhook, running
+from bot.adapter.application import Webhook, running
+from bot.adapter.webhook_guard import SECRET_HEADER
 from bot.sandbox import BotApiStandIn
-from bot.sqlite_store import SqliteStore
-from bot.webhook_guard import SECRET_HEADER
-from tests.adapter.harness import Flat, app_for
+from bot.storage.sqlite import SqliteStore
+from tests.adapter.harness import ROOMS, Flat, app_for
 
 SECRET = "sorrel-lane-hook-secret"
 
@@ -52,7 +52,7 @@ async def test_two_bot_processes_share_a_round_over_webhooks(
         await stack.enter_async_context(running(app_for(standin, db_path), webhook=second))
         standin.webhook.alternate_with(first.url)  # like two processes behind one balancer
         flat.standin.world.user_says(
-            flat.admin, flat.group, "/newround 1500.00 EUR; Skylight, Corner, Nook; tolerance 10"
+            flat.admin, flat.group, f"/newround 1500.00 EUR; {', '.join(ROOMS[:3])}; tolerance 10"
         )
         opened = await flat.wait_group("The round is open")
         join = next(b for row in opened.buttons() for b in row if b.text == "Count me in")

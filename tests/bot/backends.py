@@ -18,8 +18,8 @@ from typing import Any
 import asyncpg
 import pytest
 
-from bot.postgres_store import PostgresStore
-from bot.sqlite_store import SqliteStore
+from bot.storage.postgres import PostgresStore
+from bot.storage.sqlite import SqliteStore
 
 DSN_VARIABLE = "FLATPACT_TEST_POSTGRES_DSN"
 AnyStore = SqliteStore | PostgresStore

@@ -17,10 +17,10 @@ import pytest
 from backends import AnyStore, OpenStore, Schema, postgres_dsn_or_skip
 from flat_scenario import SECRET
 
-from bot.clock import ManualClock
-from bot.context import EngineConfig
-from bot.engine import Engine
-from bot.sqlite_store import SqliteStore
+from bot.rounds.clock import ManualClock
+from bot.rounds.context import EngineConfig
+from bot.rounds.engine import Engine
+from bot.storage.sqlite import SqliteStore
 
 BACKENDS = ("sqlite", "postgres")
 

@@ -1,16 +1,17 @@
-"""The invented scenario shared by the engine tests: 7 Wren Yard, its rooms and its people."""
+"""The engine tests' scenario: the demo's invented flat (bot/demo/flat.py), rooms and people."""
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 
-from bot.events import Actor
+from bot.demo.flat import FLATMATES
+from bot.demo.flat import ROOMS as DEMO_ROOMS
+from bot.rounds.events import Actor
 from solver import Problem
 from solver.simulate import Tenant, random_tenants
 
-# Invented flat for every test: 7 Wren Yard, its rooms and its people.
-ROOMS = ("Bay window", "Loft", "Courtyard", "Box room", "Attic")
-NAMES = ("Ines", "Tomasz", "Aroha", "Kwame", "Lidia")
+ROOMS = tuple(room.name for room in DEMO_ROOMS)
+NAMES = FLATMATES
 RENT_TEXT = "1850.00 EUR"
 RENT = 185_000
 GROUP = -1001

@@ -12,9 +12,9 @@ import re
 from decimal import Decimal
 from html.parser import HTMLParser
 
-from bot.agreement import html_document, markdown
-from bot.messages import AgreementFacts, AgreementLine
-from bot.wording import CAUTION
+from bot.rounds.agreement_document import html_document, markdown
+from bot.rounds.caution import CAUTION
+from bot.rounds.messages import AgreementFacts, AgreementLine
 
 SETTLED = 1_767_225_600  # 2026-01-01 00:00 UTC
 ROOMS = ("Bay window", "Loft", "Courtyard", "Box room")

@@ -7,12 +7,13 @@ import asyncio
 import pytest
 from flat_scenario import GROUP, RENT_TEXT, ROOMS, people, tenants_for
 
-from bot.engine import Engine
-from bot.events import Actor, BeginAsking, Cancel, Configure, Event, Join, OpenJoining, Press
-from bot.invariants import check_dump
-from bot.messages import Kind, Outgoing
-from bot.rehearsal import Rehearsal
-from bot.sqlite_store import SqliteStore
+from bot.rounds.engine import Engine
+from bot.rounds.events import Actor, BeginAsking, Cancel, Configure, Event, Join, OpenJoining, Press
+from bot.rounds.invariants import check_dump
+from bot.rounds.messages import Kind, Outgoing
+from bot.rounds.setup_input import SetupInput
+from bot.rounds.simulated_rounds import Rehearsal
+from bot.storage.sqlite import SqliteStore
 
 STRANGER = Actor(999, "Stranger")
 
@@ -47,7 +48,9 @@ async def _refused_unchanged(engine: Engine, store: SqliteStore, event: Event, s
 async def test_bad_set_up_is_refused_and_nothing_stored(
     engine: Engine, store: SqliteStore, rent: str, rooms: list[str], says: str
 ) -> None:
-    await _refused_unchanged(engine, store, Configure("c", GROUP, people(1)[0], rent, rooms), says)
+    await _refused_unchanged(
+        engine, store, Configure("c", GROUP, people(1)[0], SetupInput.parse(rent, rooms)), says
+    )
 
 
 async def test_wrong_people_and_stale_buttons_are_refused_unchanged(
@@ -62,7 +65,10 @@ async def test_wrong_people_and_stale_buttons_are_refused_unchanged(
     await _refused_unchanged(engine, store, Cancel("p3", GROUP, other), "only the person")
     await _refused_unchanged(engine, store, Press("p4", owner, "nonsense1234"), "not valid")
     await _refused_unchanged(
-        engine, store, Configure("p5", GROUP, play.admin, rent="1900 EUR"), "only change while"
+        engine,
+        store,
+        Configure("p5", GROUP, play.admin, SetupInput.parse(rent="1900 EUR")),
+        "only change while",
     )
     first = await engine.handle(Press("p6", owner, token))
     assert first[0].kind is Kind.PROGRESS
@@ -74,7 +80,7 @@ async def test_non_admin_cannot_start_and_counts_must_match(
     engine: Engine, store: SqliteStore
 ) -> None:
     admin, joiner = people(2)
-    await engine.handle(Configure("a", GROUP, admin, RENT_TEXT, ROOMS[:3]))
+    await engine.handle(Configure("a", GROUP, admin, SetupInput.parse(RENT_TEXT, ROOMS[:3])))
     await engine.handle(OpenJoining("b", GROUP, admin))
     await engine.handle(Join("c", GROUP, joiner))
     await _refused_unchanged(engine, store, BeginAsking("d", GROUP, joiner), "only the person")

@@ -8,17 +8,17 @@ from pathlib import Path
 import pytest
 from flat_scenario import GROUP, RENT, RENT_TEXT, ROOMS, SECRET, people, tenants_for
 
-from bot.clock import ManualClock
-from bot.context import EngineConfig
-from bot.engine import Engine
-from bot.events import Event, Press, ShowMyAnswers, Tick
-from bot.invariants import check_dump
-from bot.messages import Action, Kind, Outgoing
-from bot.phases import Phase
-from bot.rehearsal import Rehearsal
-from bot.sqlite_store import SqliteStore
-from bot.texts import render as render_text
-from bot.wording import CAUTION
+from bot.adapter.texts import render as render_text
+from bot.rounds.caution import CAUTION
+from bot.rounds.clock import ManualClock
+from bot.rounds.context import EngineConfig
+from bot.rounds.engine import Engine
+from bot.rounds.events import Event, Press, ShowMyAnswers, Tick
+from bot.rounds.invariants import check_dump
+from bot.rounds.messages import Action, Kind, Outgoing
+from bot.rounds.phases import Phase
+from bot.rounds.simulated_rounds import Rehearsal
+from bot.storage.sqlite import SqliteStore
 
 
 def render(message: Outgoing) -> str:

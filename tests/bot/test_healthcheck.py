@@ -1,4 +1,4 @@
-"""``python -m bot.healthcheck`` against real databases and a real listening socket.
+"""``python -m bot.adapter.healthcheck`` against real databases and a real listening socket.
 
 Exit codes follow Docker's HEALTHCHECK contract (Dockerfile reference, docs.docker.com:
 0 healthy, 1 unhealthy). Listeners bind 127.0.0.1 only.
@@ -13,9 +13,9 @@ from pathlib import Path
 
 import pytest
 
-from bot.clock import ManualClock
-from bot.healthcheck import database_problem, main, port_problem
-from bot.sqlite_store import SqliteStore
+from bot.adapter.healthcheck import database_problem, main, port_problem
+from bot.rounds.clock import ManualClock
+from bot.storage.sqlite import SqliteStore
 
 
 async def test_a_migrated_sqlite_file_is_healthy(db_path: Path, clock: ManualClock) -> None:
@@ -58,7 +58,7 @@ def test_exit_codes_as_docker_expects(db_path: Path, capsys: pytest.CaptureFixtu
     assert main(["--database", str(db_path)]) == 1
     assert "unhealthy" in capsys.readouterr().err
     done = subprocess.run(
-        [sys.executable, "-m", "bot.healthcheck", "--database", str(db_path)],
+        [sys.executable, "-m", "bot.adapter.healthcheck", "--database", str(db_path)],
         capture_output=True,
         text=True,
         timeout=60,

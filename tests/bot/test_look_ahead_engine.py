@@ -6,14 +6,14 @@ from collections import deque
 
 from flat_scenario import GROUP, RENT_TEXT, ROOMS, SECRET, people, tenants_for
 
-from bot.clock import ManualClock
-from bot.context import EngineConfig
-from bot.engine import Engine
-from bot.events import Press
-from bot.invariants import check_dump
-from bot.messages import Kind, Outgoing, ProgressFacts, QuestionFacts
-from bot.rehearsal import Rehearsal
-from bot.sqlite_store import SqliteStore
+from bot.rounds.clock import ManualClock
+from bot.rounds.context import EngineConfig
+from bot.rounds.engine import Engine
+from bot.rounds.events import Press
+from bot.rounds.invariants import check_dump
+from bot.rounds.messages import Kind, Outgoing, ProgressFacts, QuestionFacts
+from bot.rounds.simulated_rounds import Rehearsal
+from bot.storage.sqlite import SqliteStore
 
 
 async def test_parallel_questions_and_withdrawn_ones_are_refused_unchanged(

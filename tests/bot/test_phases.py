@@ -6,11 +6,11 @@ import itertools
 
 import pytest
 
-from bot.errors import IllegalMove
-from bot.phases import Phase, Step, allowed_steps, transition
+from bot.rounds.errors import IllegalMove
+from bot.rounds.phases import Phase, Step, allowed_steps, transition
 
 OPEN = [Phase.DRAFTING, Phase.GATHERING, Phase.ASKING, Phase.PROPOSED]
-# The diagram in bot/phases.py, transcribed edge by edge (independent of _EDGES).
+# The diagram in bot/rounds/phases.py, transcribed edge by edge (independent of _EDGES).
 EXPECTED = {
     (Phase.DRAFTING, Step.OPEN_JOINING): Phase.GATHERING,
     (Phase.GATHERING, Step.BEGIN_ASKING): Phase.ASKING,

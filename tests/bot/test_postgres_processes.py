@@ -24,15 +24,15 @@ import pytest
 from backends import Schema
 from flat_scenario import RENT, RENT_TEXT, ROOMS, SECRET, people, tenants_for
 
-from bot.clock import ManualClock
-from bot.context import EngineConfig
-from bot.engine import Engine
-from bot.events import Event
-from bot.invariants import check_dump
-from bot.messages import DivisionFacts, Kind, Outgoing
-from bot.phases import Phase
-from bot.postgres_store import PostgresStore, PostgresTransaction
-from bot.rehearsal import Rehearsal, RehearsalStuck
+from bot.rounds.clock import ManualClock
+from bot.rounds.context import EngineConfig
+from bot.rounds.engine import Engine
+from bot.rounds.events import Event
+from bot.rounds.invariants import check_dump
+from bot.rounds.messages import DivisionFacts, Kind, Outgoing
+from bot.rounds.phases import Phase
+from bot.rounds.simulated_rounds import Rehearsal, RehearsalStuck
+from bot.storage.postgres import PostgresStore, PostgresTransaction
 
 GROUPS = 4
 ROUND_SIZE = 3
@@ -151,7 +151,7 @@ class DroppingStore:
 async def test_dropped_connections_mid_round_are_retried_and_nothing_is_lost(
     pg_schema: Schema, clock: ManualClock, caplog: pytest.LogCaptureFixture
 ) -> None:
-    caplog.set_level(logging.WARNING, logger="bot.retrying")
+    caplog.set_level(logging.WARNING, logger="bot.rounds.retrying")
     store = await pg_schema.open_store(clock=clock, max_size=2)
     dropping = DroppingStore(store, pg_schema, every=5)
     engine = Engine(dropping, clock=clock, config=EngineConfig(token_secret=SECRET))  # type: ignore[arg-type]
@@ -201,7 +201,7 @@ def _restart_server() -> None:
 async def test_a_server_restart_mid_round_is_retried_and_nothing_is_lost(
     pg_schema: Schema, clock: ManualClock, caplog: pytest.LogCaptureFixture
 ) -> None:
-    caplog.set_level(logging.WARNING, logger="bot.retrying")
+    caplog.set_level(logging.WARNING, logger="bot.rounds.retrying")
     store = await pg_schema.open_store(clock=clock, max_size=2)
     engine = Engine(store, clock=clock, config=EngineConfig(token_secret=SECRET))
     members = people(ROUND_SIZE)

@@ -1,6 +1,6 @@
 """Real-life rounds: someone moves out, more rooms than people, shared costs, the agreement.
 
-The flat (7 Wren Yard), its people and amounts are invented (flat_scenario.py). Simulated
+The flat is the demo's invented one (flat_scenario.py). Simulated
 tenants come from solver.simulate (quasi-linear: a money value per room); their money-metric
 envy is the outside yardstick for "nobody would rather swap".
 """
@@ -15,10 +15,10 @@ from flat_scenario import GROUP, RENT, RENT_TEXT, ROOMS, people
 from hypothesis import given
 from hypothesis import strategies as st
 
-from bot.engine import Engine
-from bot.events import Actor, BeginAsking, Configure, Join, OpenJoining, Press, Rerun
-from bot.invariants import check_dump
-from bot.messages import (
+from bot.rounds.engine import Engine
+from bot.rounds.events import Actor, BeginAsking, Configure, Join, OpenJoining, Press, Rerun
+from bot.rounds.invariants import check_dump
+from bot.rounds.messages import (
     Action,
     AgreementFacts,
     DivisionFacts,
@@ -26,9 +26,10 @@ from bot.messages import (
     Outgoing,
     RoundFacts,
 )
-from bot.rehearsal import Rehearsal
-from bot.settings import RoundSettings
-from bot.sqlite_store import SqliteStore
+from bot.rounds.round_settings import RoundSettings
+from bot.rounds.setup_input import SetupInput
+from bot.rounds.simulated_rounds import Rehearsal
+from bot.storage.sqlite import SqliteStore
 from solver import Problem
 from solver.simulate import Tenant, random_tenants
 
@@ -62,7 +63,7 @@ async def settle(
 ) -> tuple[Rehearsal, DivisionFacts]:
     play = Rehearsal(engine, group, members[0], members, tastes, key_prefix=f"g{group}")
     out = await play.send(
-        Configure(play.key(), group, members[0], RENT_TEXT, ROOMS[:3], **extra)  # type: ignore[arg-type]
+        Configure(play.key(), group, members[0], SetupInput.parse(RENT_TEXT, ROOMS[:3], **extra))  # type: ignore[arg-type]
     )
     out += await play.send(OpenJoining(play.key(), group, members[0]))
     for member in members:
@@ -130,7 +131,9 @@ async def test_a_room_kept_as_common_space_is_left_out(engine: Engine, store: Sq
     members = people(3)
     tastes = tenants(members, 3, 21)  # the three let rooms are ROOMS[:3]
     play = Rehearsal(engine, GROUP, members[0], members, tastes)
-    out = await play.send(Configure("c", GROUP, members[0], RENT_TEXT, ROOMS[:4], common=ROOMS[3]))
+    out = await play.send(
+        Configure("c", GROUP, members[0], SetupInput.parse(RENT_TEXT, ROOMS[:4], common=ROOMS[3]))
+    )
     draft = out[0].facts
     assert isinstance(draft, RoundFacts)
     assert draft.rooms == ROOMS[:3] and draft.common == (ROOMS[3],)
@@ -154,7 +157,11 @@ async def test_the_method_chooses_which_room_stays_empty(
     members = people(3)
     tastes = tenants(members, 4, seed)  # values for all four rooms
     play = Rehearsal(engine, GROUP, members[0], members, tastes)
-    await play.send(Configure("c", GROUP, members[0], RENT_TEXT, ROOMS[:4], empty_allowed=True))
+    await play.send(
+        Configure(
+            "c", GROUP, members[0], SetupInput.parse(RENT_TEXT, ROOMS[:4], empty_allowed=True)
+        )
+    )
     out = await play.send(OpenJoining("o", GROUP, members[0]))
     for member in members:
         out += await play.send(Join(f"j{member.user_id}", GROUP, member))
@@ -221,7 +228,7 @@ async def test_bad_shared_costs_and_rooms_are_refused_unchanged(
     engine: Engine, store: SqliteStore, extra: dict[str, str], says: str
 ) -> None:
     admin = people(1)[0]
-    event = Configure("c", GROUP, admin, RENT_TEXT, ROOMS[:3], **extra)  # type: ignore[arg-type]
+    event = Configure("c", GROUP, admin, SetupInput.parse(RENT_TEXT, ROOMS[:3], **extra))  # type: ignore[arg-type]
     await _refused_unchanged(engine, store, event, says)
 
 
@@ -229,20 +236,22 @@ async def test_too_few_members_and_late_changes_are_refused_unchanged(
     engine: Engine, store: SqliteStore
 ) -> None:
     members = people(3)
-    await engine.handle(Configure("c", GROUP, members[0], RENT_TEXT, ROOMS[:4]))
+    await engine.handle(Configure("c", GROUP, members[0], SetupInput.parse(RENT_TEXT, ROOMS[:4])))
     await engine.handle(OpenJoining("o", GROUP, members[0]))
     for member in members:
         await engine.handle(Join(f"j{member.user_id}", GROUP, member))
     begin = BeginAsking("b1", GROUP, members[0])
     await _refused_unchanged(engine, store, begin, "empty rooms yes")
     # Fewer rooms than members who joined: refused, nothing changes.
-    fewer = Configure("c2", GROUP, members[0], rooms=ROOMS[:2])
+    fewer = Configure("c2", GROUP, members[0], SetupInput.parse(rooms=ROOMS[:2]))
     await _refused_unchanged(engine, store, fewer, "3 members have joined")
     # Allowed while gathering; then the same begin works.
-    allow = await engine.handle(Configure("c3", GROUP, members[0], empty_allowed=True))
+    allow = await engine.handle(
+        Configure("c3", GROUP, members[0], SetupInput.parse(empty_allowed=True))
+    )
     assert allow[0].kind is Kind.DRAFT_SAVED
     started = await engine.handle(BeginAsking("b2", GROUP, members[0]))
     assert started[0].kind is Kind.ASKING_STARTED
-    late = Configure("c4", GROUP, members[0], shared="100")
+    late = Configure("c4", GROUP, members[0], SetupInput.parse(shared="100"))
     await _refused_unchanged(engine, store, late, "only change while")
     check_dump(await store.dump())

@@ -1,11 +1,12 @@
-"""Set-up input: exact conversion to minor units and clear refusals."""
+"""Set-up input: parsed once, then converted exactly to minor units; clear refusals."""
 
 from __future__ import annotations
 
 import pytest
 
-from bot.errors import InvalidSetup
-from bot.settings import build_settings, currency_decimals, parse_rent, parse_rooms
+from bot.rounds.errors import InvalidSetup
+from bot.rounds.round_settings import build_settings, check_rent, check_rooms
+from bot.rounds.setup_input import SetupInput, currency_decimals, parse_rent, split_names
 
 
 def test_currency_decimals_match_iso_4217() -> None:
@@ -28,7 +29,7 @@ def test_currency_decimals_match_iso_4217() -> None:
     ],
 )
 def test_rent_becomes_exact_minor_units(text: str, minor: int, code: str) -> None:
-    money = parse_rent(text)
+    money = check_rent(parse_rent(text), None)
     assert (money.minor, money.currency) == (minor, code)
 
 
@@ -45,11 +46,12 @@ def test_rent_becomes_exact_minor_units(text: str, minor: int, code: str) -> Non
         ("1850", "which currency"),
         ("1850 XQQ", "not a currency code"),
         ("1850 EUR GBP", "one currency code"),
+        ("abc EUR", "'abc' is not a number"),
     ],
 )
 def test_bad_rent_is_refused_with_a_reason(text: str, says: str) -> None:
     with pytest.raises(InvalidSetup, match=says):
-        parse_rent(text)
+        check_rent(parse_rent(text), None)
 
 
 @pytest.mark.parametrize(
@@ -64,16 +66,18 @@ def test_bad_rent_is_refused_with_a_reason(text: str, says: str) -> None:
 )
 def test_bad_rooms_are_refused(rooms: list[str], says: str) -> None:
     with pytest.raises(InvalidSetup, match=says):
-        parse_rooms(rooms)
+        check_rooms(split_names(rooms))
 
 
 def test_rooms_from_one_line_and_default_tolerance_is_one_major_unit() -> None:
-    settings = build_settings(rent="1850 EUR", rooms="Loft, Attic ,Courtyard")
+    settings = build_settings(SetupInput.parse("1850 EUR", "Loft, Attic ,Courtyard"))
     assert settings.rooms == ("Loft", "Attic", "Courtyard")
     assert settings.tolerance == 100
-    assert build_settings(rent="240000 JPY", rooms=["A", "B"]).tolerance == 2  # solver minimum
+    assert (
+        build_settings(SetupInput.parse("240000 JPY", ["A", "B"])).tolerance == 2
+    )  # solver minimum
 
 
 def test_floor_too_high_is_refused_in_the_solvers_words() -> None:
     with pytest.raises(InvalidSetup, match="floor"):
-        build_settings(rent="100 EUR", rooms=["A", "B"], floor="60")
+        build_settings(SetupInput.parse("100 EUR", ["A", "B"], floor="60"))

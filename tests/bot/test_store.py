@@ -12,16 +12,17 @@ from pathlib import Path
 import pytest
 from backends import AnyStore, OpenStore, Schema
 
-from bot.clock import ManualClock
-from bot.errors import StorageFault
-from bot.messages import Action
-from bot.migrations import MIGRATIONS
-from bot.postgres_store import PostgresStore
-from bot.records import TokenRecord
-from bot.settings import build_settings
-from bot.sqlite_store import SqliteStore
+from bot.rounds.clock import ManualClock
+from bot.rounds.errors import StorageFault
+from bot.rounds.messages import Action
+from bot.rounds.records import TokenRecord
+from bot.rounds.round_settings import build_settings
+from bot.rounds.setup_input import SetupInput
+from bot.storage.migrations import MIGRATIONS
+from bot.storage.postgres import PostgresStore
+from bot.storage.sqlite import SqliteStore
 
-SETTINGS = build_settings(rent="1850 EUR", rooms=["Loft", "Attic"])
+SETTINGS = build_settings(SetupInput.parse("1850 EUR", ["Loft", "Attic"]))
 
 
 async def _new_round(store: AnyStore, group_id: int = -1001, admin_id: int = 2) -> int:

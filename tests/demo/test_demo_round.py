@@ -18,11 +18,11 @@ from pathlib import Path
 from babel.numbers import format_currency
 from rich.console import Console
 
-from bot.demo import main
-from bot.demo_round import DemoOptions, DemoResult, run_round
-from bot.pictures import picture_data, render_png
-from bot.sqlite_store import SqliteStore
-from bot.walk_picture import CAPTION_LIMIT
+from bot.adapter.pictures import picture_data, render_png
+from bot.adapter.walk_picture import CAPTION_LIMIT
+from bot.demo.cli import main
+from bot.demo.sandbox_round import DemoOptions, DemoResult, run_round
+from bot.storage.sqlite import SqliteStore
 from solver import Walk
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG spec (ISO/IEC 15948) section 5.2
@@ -58,7 +58,7 @@ async def three_rooms(tmp_path: Path) -> tuple[DemoResult, str]:
 
 
 async def test_demo_round_is_envy_free_by_the_flatmates_own_values(tmp_path: Path) -> None:
-    result, transcript = await three_rooms(tmp_path)
+    result, chat_log = await three_rooms(tmp_path)
     assignment, prices, walk, _ = await stored(result.database)
     assert result.phase == "settled"
     assert sum(prices) == result.rent
@@ -66,14 +66,14 @@ async def test_demo_round_is_envy_free_by_the_flatmates_own_values(tmp_path: Pat
     for name, room in assignment.items():
         # The solver's promise for quasi-linear tenants: envy at most the tolerance.
         assert result.tenants[name].envy(prices, room) <= result.tolerance
-    # The transcript showed the private questions and the group's suggested split.
+    # The chat log showed the private questions and the group's suggested split.
     # Every press answered a question the member was sent; questions asked ahead of time may
     # be withdrawn before anyone presses, or refused when pressed just after withdrawal.
-    presses = transcript.count("pressed [I'd take")
+    presses = chat_log.count("pressed [I'd take")
     answered = len([r for r in walk.records if r.source == "asked"])
     assert answered <= presses <= sum(result.asked.values())
     for name, room in assignment.items():
-        assert f"• {name}: {result.rooms[room]}, {euros(prices[room])}" in transcript
+        assert f"• {name}: {result.rooms[room]}, {euros(prices[room])}" in chat_log
     # Outside reference: every call the bot made was valid by the Bot API spec.
     assert result.violations == ()
 

@@ -9,7 +9,10 @@ from typing import Any, NoReturn
 import pytest
 from telegram import Bot
 
-from bot.walk_picture import send_walk_picture
+from bot.adapter.walk_picture import send_walk_picture
+from bot.rounds.clock import ManualClock
+from bot.rounds.context import EngineConfig
+from bot.rounds.engine import Engine
 
 
 class BrokenStore:
@@ -33,7 +36,8 @@ class NoPhotoBot(Bot):
 
 async def test_failure_is_logged_and_swallowed(caplog: pytest.LogCaptureFixture) -> None:
     bot = NoPhotoBot("7000000001:sandbox-token-for-local-tests")
-    with caplog.at_level(logging.ERROR, logger="bot.walk_picture"):
-        sent = await send_walk_picture(bot, BrokenStore(), -4_100_000_001, 1)  # type: ignore[arg-type]
+    with caplog.at_level(logging.ERROR, logger="bot.adapter.walk_picture"):
+        engine = Engine(BrokenStore(), clock=ManualClock(0), config=EngineConfig(b"k" * 32))  # type: ignore[arg-type]
+        sent = await send_walk_picture(bot, engine, -4_100_000_001, 1)
     assert sent is None
     assert "the proposal stands" in caplog.text

@@ -12,8 +12,8 @@ from decimal import Decimal
 import pytest
 from babel.numbers import format_currency
 
-from bot.demo import tolerance_minor
-from bot.sandbox.flatmates import UnreadableMessage, amount_shown, prices_shown
+from bot.demo.cli import tolerance_minor
+from bot.demo.flatmates import UnreadableMessage, amount_shown, prices_shown
 
 
 @pytest.mark.parametrize("cents", [0, 5, 99, 100, 123_456, 1_000_000_01])

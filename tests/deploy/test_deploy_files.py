@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from bot.webhook_guard import SECRET_HEADER
+from bot.adapter.webhook_guard import SECRET_HEADER
 
 ROOT = Path(__file__).resolve().parents[2]
 DEPLOY = ROOT / "deploy"
@@ -78,7 +78,7 @@ def test_dockerfile_is_slim_non_root_healthchecked_and_runs_the_bot() -> None:
     assert steps[user_at][1] not in ("root", "0")
     assert user_at < keywords.index("CMD") and user_at < keywords.index("HEALTHCHECK")
     health = dict(steps)["HEALTHCHECK"]
-    assert "CMD python -m bot.healthcheck" in health
+    assert "CMD python -m bot.adapter.healthcheck" in health
     assert dict(steps)["CMD"] == '["python", "-m", "bot"]'
     for keyword, args in steps:
         if keyword == "COPY":

@@ -4,7 +4,7 @@ import struct
 
 import pytest
 
-from bot.pictures import picture_data, render_png, triangle_xy
+from bot.adapter.pictures import picture_data, render_png, triangle_xy
 from solver import Problem
 from solver.simulate import random_tenants, run
 

@@ -1,4 +1,6 @@
-"""Webhook delivery by the stand-in, received by a tiny tornado server using bot.webhook_guard.
+"""Webhook delivery by the stand-in, received by a tiny tornado server.
+
+The receiving side checks the secret with bot.adapter.webhook_guard.
 
 Outside reference: Telegram Bot API spec, bot/sandbox/botapi/api.json, setWebhook:
 updates arrive as an HTTPS POST with a JSON-serialised Update, the header
@@ -20,8 +22,8 @@ from tornado.httpserver import HTTPServer
 from tornado.netutil import bind_sockets
 from tornado.web import Application, RequestHandler
 
+from bot.adapter.webhook_guard import SECRET_HEADER, check_secret_token, verify
 from bot.sandbox import BotApiStandIn, SimChat, SimUser
-from bot.webhook_guard import SECRET_HEADER, check_secret_token, verify
 
 SECRET = "wren-yard_7-secret"
 

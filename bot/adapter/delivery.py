@@ -1,0 +1,321 @@
+"""Sending the outbox: every message the engine committed reaches Telegram once, in order.
+
+The engine writes its messages into the outbox inside the event's transaction; this module
+sends the pending ones and marks each as sent (with its Telegram message id) right after the
+send returns. What Telegram makes of a failure decides what happens next:
+
+* flood control (``RetryAfter``) is retried by PTB's ``AIORateLimiter``; if it persists, and
+  on network errors, the message stays pending and the next flush (after every event and on a
+  timer) sends it;
+* ``Forbidden`` for a private chat means the person never opened a chat with the bot (or
+  blocked it): the message is *held* and the group is told, with a deep link; ``/start``
+  releases the person's held messages;
+* ``ChatMigrated`` moves the group's rounds to the supergroup id and sends again;
+* "message is not modified" is a success.
+
+A proposal sent to a group is followed by a picture of the walk (:mod:`bot.adapter.walk_picture`);
+that picture is an extra and its failure never holds up the outbox.
+
+A send that reached Telegram but whose answer was lost (a timeout) is sent again later: a
+rare duplicate is preferred to a lost question.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import logging
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+
+from telegram import Bot, InlineKeyboardMarkup, Message
+from telegram.error import BadRequest, ChatMigrated, Forbidden, NetworkError, RetryAfter
+
+from bot.adapter.documents import send_agreement
+from bot.adapter.keyboards import deep_link, join_payload, keyboard
+from bot.adapter.texts import (
+    answered_question,
+    board,
+    fit,
+    needs_private_chat,
+    pick_locale,
+    render,
+    withdrawn_question,
+)
+from bot.adapter.walk_picture import send_walk_picture
+from bot.rounds.clock import Clock
+from bot.rounds.engine import Engine
+from bot.rounds.events import MoveGroup
+from bot.rounds.messages import (
+    DivisionFacts,
+    Kind,
+    Outgoing,
+    ProgressFacts,
+    QuestionFacts,
+    RoundFacts,
+)
+from bot.rounds.outbox_codec import decode
+from bot.rounds.records import OutboxRecord, OutboxState
+from bot.rounds.store_port import Store
+
+log = logging.getLogger(__name__)
+NOT_MODIFIED = "message is not modified"
+
+
+#: A message claimed for sending this long ago was lost with its process: send it again.
+STALE_CLAIM_SECONDS = 120
+
+
+class SendLater(Exception):
+    """Telegram or the network is not taking messages now; keep the rest pending."""
+
+
+@dataclass
+class Delivery:
+    """Owns the outbox flush; one per running bot."""
+
+    bot: Bot
+    store: Store
+    engine: Engine
+    clock: Clock
+    locale: str
+    bot_username: str
+    on_flushed: Callable[[], None] | None = None
+
+    def __post_init__(self) -> None:
+        self._lock = asyncio.Lock()
+        self._noticed: set[tuple[int, int]] = set()
+
+    async def flush(self) -> bool:
+        """Send everything pending, oldest first; False if something must wait for later."""
+        async with self._lock:
+            async with self.store.transaction() as tx:
+                rows = await tx.outgoing(OutboxState.PENDING)
+            for row in rows:
+                now = self.clock()
+                async with self.store.transaction() as tx:
+                    claimed = await tx.claim_outgoing(row.id, now, now - STALE_CLAIM_SECONDS)
+                if not claimed:  # another bot process is sending it
+                    continue
+                try:
+                    await self._deliver(row)
+                except SendLater as reason:
+                    async with self.store.transaction() as tx:
+                        await tx.release_claim(row.id)
+                    log.warning("sending paused, will retry: %s", reason)
+                    return False
+            return True
+
+    async def release(self, user_id: int) -> int:
+        """The person opened a private chat: their held messages become pending again."""
+        async with self._lock:
+            async with self.store.transaction() as tx:
+                held = await tx.outgoing(OutboxState.HELD, chat_id=user_id)
+                for row in held:
+                    await tx.set_outgoing_state(row.id, OutboxState.PENDING, self.clock())
+            self._noticed = {n for n in self._noticed if n[0] != user_id}
+            return len(held)
+
+    # --- one message --------------------------------------------------------------------------
+
+    async def _deliver(self, row: OutboxRecord) -> None:
+        message = decode(row.payload)
+        message = replace(message, to=replace(message.to, chat_id=row.chat_id))
+        try:
+            sent_id = await self._send(row, message)
+        except ChatMigrated as moved:
+            await self._migrate(row.chat_id, moved.new_chat_id)
+            message = replace(message, to=replace(message.to, chat_id=moved.new_chat_id))
+            sent_id = await self._send(row, message)
+        except Forbidden as refused:
+            await self._forbidden(row, message, str(refused))
+            return
+        except RetryAfter as flood:
+            raise SendLater(f"flood control: {flood}") from flood
+        except BadRequest as bad:
+            if NOT_MODIFIED not in str(bad):
+                log.error("Telegram refused outbox message %s for good: %s", row.id, bad)
+                await self._set_state(row, OutboxState.DROPPED, None)
+                return
+            sent_id = None
+        except NetworkError as trouble:
+            raise SendLater(f"network: {trouble}") from trouble
+        await self._set_state(row, OutboxState.SENT, sent_id)
+        facts = message.facts
+        if (
+            message.kind is Kind.PROPOSAL
+            and isinstance(facts, DivisionFacts)
+            and not message.to.private
+            and sent_id is not None
+        ):
+            # An extra after the proposal is safely sent; it never raises.
+            await send_walk_picture(self.bot, self.engine, message.to.chat_id, facts.round_id)
+
+    async def _set_state(self, row: OutboxRecord, state: str, message_id: int | None) -> None:
+        async with self.store.transaction() as tx:
+            await tx.set_outgoing_state(row.id, state, self.clock(), message_id)
+
+    async def _send(self, row: OutboxRecord, message: Outgoing) -> int | None:
+        """Send or edit; returns the message id that now shows this outgoing message."""
+        if message.kind is Kind.WITHDRAWN and isinstance(message.facts, ProgressFacts):
+            return await self._withdraw_question(message, message.facts)
+        if isinstance(message.facts, ProgressFacts) and message.facts.question_ref:
+            return await self._acknowledge_answer(message, message.facts)
+        if message.kind in (Kind.ACCEPTED, Kind.SETTLED):
+            await self._update_proposal(message)
+            if message.kind is Kind.ACCEPTED:
+                return None
+        if message.kind is Kind.AGREEMENT:
+            return await send_agreement(self.bot, message, await self._locale_for(message))
+        locale = await self._locale_for(message)
+        need = await self._need_private_chat(message)
+        link = self._group_link(message) if need or message.kind is Kind.JOINING_OPEN else None
+        text = fit(render(message, locale, need_private_chat=need))
+        markup = keyboard(message, _rooms_of(message), link)
+        sent = await self.bot.send_message(message.to.chat_id, text, reply_markup=markup)
+        return sent.message_id
+
+    async def _withdraw_question(self, message: Outgoing, facts: ProgressFacts) -> int | None:
+        """Edit a no-longer-needed question in place (buttons gone); never a new message."""
+        chat_id = message.to.chat_id
+        async with self.store.transaction() as tx:
+            asked = await tx.last_sent(
+                chat_id, [Kind.QUESTION.value, Kind.REMINDER.value], ref=facts.question_ref
+            )
+        if asked is None or asked.message_id is None:
+            return None
+        question = decode(asked.payload).facts
+        assert isinstance(question, QuestionFacts)
+        text = withdrawn_question(question, await self._locale_for(message))
+        return await self._edit(chat_id, asked.message_id, text, None)
+
+    async def _acknowledge_answer(self, message: Outgoing, facts: ProgressFacts) -> int | None:
+        """Edit the answered question in place (buttons gone), then refresh the group board."""
+        chat_id = message.to.chat_id
+        async with self.store.transaction() as tx:
+            asked = await tx.last_sent(
+                chat_id, [Kind.QUESTION.value, Kind.REMINDER.value], ref=facts.question_ref
+            )
+        locale = await self._locale_for(message)
+        edited: int | None = None
+        if asked is not None and asked.message_id is not None:
+            question = decode(asked.payload).facts
+            assert isinstance(question, QuestionFacts)
+            text = answered_question(question, facts.room_taken or "?", locale)
+            edited = await self._edit(chat_id, asked.message_id, text, None)
+        if edited is None:
+            sent = await self.bot.send_message(chat_id, render(message, locale))
+            edited = sent.message_id
+        await self.refresh_board(facts.round_id)
+        return edited
+
+    async def refresh_board(self, round_id: int) -> None:
+        """Rewrite the group's "questions are on their way" message with today's progress."""
+        status = await self.engine.status(round_id=round_id)
+        if status is None:
+            return
+        group = status.round.group_id
+        async with self.store.transaction() as tx:
+            posted = await tx.last_sent(group, [Kind.ASKING_STARTED.value], round_id=round_id)
+        if posted is None or posted.message_id is None:
+            return
+        try:
+            await self._edit(group, posted.message_id, board(status, self.locale), None)
+        except BadRequest as bad:
+            log.info("progress line not updated: %s", bad)
+
+    async def _update_proposal(self, message: Outgoing) -> None:
+        """Show the acceptance count on the proposal itself; remove its buttons once settled."""
+        facts = message.facts
+        assert isinstance(facts, DivisionFacts)
+        async with self.store.transaction() as tx:
+            posted = await tx.last_sent(
+                message.to.chat_id, [Kind.PROPOSAL.value], round_id=facts.round_id
+            )
+        if posted is None or posted.message_id is None:
+            return
+        proposal = decode(posted.payload)
+        kind = Kind.ACCEPTED if message.kind is Kind.ACCEPTED else Kind.PROPOSAL
+        text = render(replace(message, kind=kind), self.locale)
+        markup = keyboard(proposal, ()) if message.kind is Kind.ACCEPTED else None
+        try:
+            await self._edit(message.to.chat_id, posted.message_id, text, markup)
+        except BadRequest as bad:
+            log.info("proposal not updated: %s", bad)
+        await self.refresh_board(facts.round_id)
+
+    async def _edit(
+        self, chat_id: int, message_id: int, text: str, markup: InlineKeyboardMarkup | None
+    ) -> int | None:
+        """Edit text (and keyboard); "not modified" counts as done, a vanished message as None."""
+        try:
+            edited = await self.bot.edit_message_text(
+                fit(text), chat_id=chat_id, message_id=message_id, reply_markup=markup
+            )
+        except BadRequest as bad:
+            if NOT_MODIFIED in str(bad):
+                return message_id
+            if "not found" in str(bad):
+                return None
+            raise
+        return edited.message_id if isinstance(edited, Message) else message_id
+
+    # --- failures ----------------------------------------------------------------------------
+
+    async def _migrate(self, old: int, new: int) -> None:
+        """The group became a supergroup: move its rounds and unsent messages to the new id."""
+        await self.engine.handle(MoveGroup(f"migrate:{old}:{new}", old, new))
+
+    async def _forbidden(self, row: OutboxRecord, message: Outgoing, reason: str) -> None:
+        if not message.to.private:
+            log.error("cannot post in group %s any more: %s", row.chat_id, reason)
+            await self._set_state(row, OutboxState.DROPPED, None)
+            return
+        await self._set_state(row, OutboxState.HELD, None)
+        if row.round_id is None or (row.chat_id, row.round_id) in self._noticed:
+            return
+        self._noticed.add((row.chat_id, row.round_id))
+        status = await self.engine.status(round_id=row.round_id)
+        if status is None:
+            return
+        names = dict(zip(status.round.member_ids, status.round.members, strict=False))
+        group = status.round.group_id
+        link = deep_link(self.bot_username, join_payload(group))
+        text = needs_private_chat(names.get(row.chat_id, "Someone"), link)
+        try:
+            await self.bot.send_message(group, text)
+        except (BadRequest, Forbidden, NetworkError) as trouble:
+            log.warning("could not post the private-chat notice: %s", trouble)
+
+    # --- helpers -----------------------------------------------------------------------------
+
+    async def _locale_for(self, message: Outgoing) -> str:
+        if not message.to.private:
+            return self.locale
+        async with self.store.transaction() as tx:
+            known = await tx.contacts([message.to.chat_id])
+        return pick_locale(known.get(message.to.chat_id), self.locale)
+
+    async def _need_private_chat(self, message: Outgoing) -> tuple[str, ...]:
+        """Members named in a group message who have not opened a private chat yet."""
+        facts = message.facts
+        if message.to.private or not isinstance(facts, RoundFacts) or not facts.member_ids:
+            return ()
+        async with self.store.transaction() as tx:
+            known = await tx.contacts(list(facts.member_ids))
+        return tuple(
+            name
+            for user_id, name in zip(facts.member_ids, facts.members, strict=False)
+            if user_id not in known
+        )
+
+    def _group_link(self, message: Outgoing) -> str:
+        return deep_link(self.bot_username, join_payload(message.to.chat_id))
+
+
+def _rooms_of(message: Outgoing) -> tuple[str, ...]:
+    rooms = getattr(message.facts, "rooms", None)
+    if isinstance(rooms, tuple):
+        return tuple(str(r) for r in rooms)
+    if isinstance(message.facts, DivisionFacts):
+        return tuple(line.room for line in sorted(message.facts.lines, key=lambda x: x.room_index))
+    return ()

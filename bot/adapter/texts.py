@@ -1,0 +1,378 @@
+"""What the Telegram bot says: our own plain-English wording, amounts formatted with Babel.
+
+Money arrives as integer minor units; Babel only formats it (the amount already has exactly
+the currency's decimals, so nothing is rounded). Private messages use the person's Telegram
+language for number formats where Babel knows it; groups use the configured locale.
+"""
+
+from __future__ import annotations
+
+from decimal import Decimal
+
+from babel import Locale, UnknownLocaleError
+from babel.numbers import format_currency
+
+from bot.rounds.agreement_document import Document, html_document, markdown
+from bot.rounds.agreement_document import when as agreement_time
+from bot.rounds.caution import CAUTION
+from bot.rounds.messages import (
+    AgreementFacts,
+    DivisionFacts,
+    EarlierFacts,
+    Kind,
+    MyAnswersFacts,
+    Outgoing,
+    ProgressFacts,
+    PromptFacts,
+    QuestionFacts,
+    RefusalFacts,
+    RoundFacts,
+    StatusFacts,
+    WaitingFacts,
+)
+
+#: Telegram Bot API: message text is 1-4096 characters after entities parsing
+#: (core.telegram.org/bots/api#sendmessage).
+TEXT_LIMIT = 4096
+#: Telegram Bot API: answerCallbackQuery text is 0-200 characters.
+CALLBACK_TEXT_LIMIT = 200
+
+HOW_IT_WORKS = (
+    "How it works: every possible way of splitting the rent between the rooms is a price "
+    "list. I lay a grid over all those price lists and walk across it, asking each of you "
+    'privately: "at these prices, which room would you take?" A result known as Sperner\'s '
+    "lemma guarantees that the walk ends at a price list where each of you gets the room you "
+    "chose, so nobody would rather swap.\n\n"
+    "This rests on two assumptions: you would take a free room rather than pay for another, "
+    "and a room never becomes less attractive by getting cheaper.\n\n"
+    '"Within tolerance" means the grid is fine enough that each of you chose your room at '
+    "prices at most the tolerance away from the final ones: if money counts one-for-one for "
+    "you, you would not pay more than the tolerance to swap with anyone."
+)
+
+
+def pick_locale(language_code: str | None, default: str = "en") -> str:
+    """A locale Babel knows, from a Telegram ``language_code`` such as ``de`` or ``pt-br``."""
+    for candidate in (language_code, default):
+        if not candidate:
+            continue
+        try:
+            return str(Locale.parse(candidate.replace("-", "_")))
+        except (UnknownLocaleError, ValueError):
+            continue
+    return "en"
+
+
+def money(minor: int, currency: str, decimals: int, locale: str) -> str:
+    """``€1,234.50``: exact minor units shown in the locale's currency format."""
+    amount = Decimal(minor).scaleb(-decimals)
+    return str(format_currency(amount, currency, locale=locale))
+
+
+def fit(text: str, limit: int = TEXT_LIMIT) -> str:
+    """Cut over-long text (only ever very long name lists) so Telegram accepts it."""
+    return text if len(text) <= limit else text[: limit - 1] + "…"
+
+
+def render(message: Outgoing, locale: str, *, need_private_chat: tuple[str, ...] = ()) -> str:
+    """The text of one engine message."""
+    f = message.facts
+    if isinstance(f, RefusalFacts):
+        return refusal(f)
+    if isinstance(f, QuestionFacts):
+        return question(f, locale, reminder=message.kind is Kind.REMINDER)
+    if isinstance(f, DivisionFacts):
+        return division(f, message.kind, locale)
+    if isinstance(f, PromptFacts):
+        return prompt(f, locale)
+    if isinstance(f, ProgressFacts) and message.kind is Kind.WITHDRAWN:
+        return WITHDRAWN_NOTE
+    if isinstance(f, ProgressFacts):
+        return f"Saved: you would take {f.room_taken}. Thank you, the next step is on its way."
+    if isinstance(f, WaitingFacts):
+        who = ", ".join(f.waiting_for) or "nobody"
+        return f"Your round has been {f.phase} for a while. Still waiting for: {who}."
+    if isinstance(f, MyAnswersFacts):
+        return my_answers(f, locale)
+    if isinstance(f, EarlierFacts):
+        return earlier_offer(f)
+    if isinstance(f, AgreementFacts):
+        # Sent as files (agreement_files); as text only if sent like any other message.
+        return markdown(f).text
+    return round_text(f, message.kind, locale, need_private_chat)
+
+
+def earlier_offer(f: EarlierFacts) -> str:
+    """Private, to a member of the previous round: keep the old answers or start afresh."""
+    if not f.usable:
+        return (
+            "Welcome back. The rooms are not the same as in the last round, so your earlier "
+            "answers cannot be matched up; you will answer afresh."
+        )
+    if f.keep is None:
+        return (
+            "Welcome back. You answered questions in the last round of this flat. If those "
+            "answers still describe your preferences, I can reuse them and ask you fewer "
+            "questions. If you do not choose before the questions start, I reuse them."
+        )
+    if f.keep:
+        return "Noted: I will reuse your earlier answers. You can still change this."
+    return "Noted: you will answer afresh. You can still change this."
+
+
+def agreement_caption(f: AgreementFacts, locale: str) -> str:
+    """The caption of the written agreement's file."""
+    return (
+        f"The written agreement, settled {agreement_time(f.settled_at)}: "
+        f"total {money(f.rent, f.currency, f.decimals, locale)}. Keep it with your papers."
+    )
+
+
+def agreement_files(f: AgreementFacts) -> tuple[Document, Document]:
+    """The agreement as Markdown (easy to read anywhere) and HTML (easy to print)."""
+    return markdown(f), html_document(f)
+
+
+def history(agreements: list[AgreementFacts], locale: str) -> str:
+    """The group's past agreements, newest first: when, the total, who took which room."""
+    if not agreements:
+        return "No agreements yet in this group. Once a round is settled, it is listed here."
+    blocks = []
+    for f in reversed(agreements):
+        rooms = "; ".join(
+            f"{line.member}: {line.room} "
+            f"({money(line.price + line.shared, f.currency, f.decimals, locale)})"
+            for line in f.lines
+        )
+        empty = f" Empty: {', '.join(f.empty_rooms)}." if f.empty_rooms else ""
+        blocks.append(
+            f"• {agreement_time(f.settled_at)}, total "
+            f"{money(f.rent, f.currency, f.decimals, locale)}: {rooms}.{empty}"
+        )
+    return "Agreements of this group, newest first:\n" + "\n".join(blocks)
+
+
+def refusal(f: RefusalFacts) -> str:
+    return f"Not done: {f.reason}."
+
+
+def _price_lines(
+    rooms: tuple[str, ...], prices: tuple[int, ...], currency: str, decimals: int, locale: str
+) -> list[str]:
+    return [
+        f"• {room}: {money(p, currency, decimals, locale)}"
+        for room, p in zip(rooms, prices, strict=True)
+    ]
+
+
+def question(f: QuestionFacts, locale: str, *, reminder: bool) -> str:
+    head = "Reminder, this one is still open.\n" if reminder else ""
+    offered = ", ".join(f.rooms[i] for i in f.choices)
+    return "\n".join(
+        [
+            f"{head}Question {f.number_for_member}: if the rent were split like this,",
+            *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
+            f"which room would you take? (You can pick: {offered}.)",
+        ]
+    )
+
+
+WITHDRAWN_NOTE = (
+    "No longer needed: I asked this early so you would not have to wait, and the others' "
+    "answers took the walk elsewhere. Nothing to do."
+)
+
+
+def withdrawn_question(f: QuestionFacts, locale: str) -> str:
+    """A question asked ahead of time that the walk no longer needs: prices kept, no buttons."""
+    return "\n".join(
+        [
+            f"Question {f.number_for_member}: at these prices,",
+            *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
+            WITHDRAWN_NOTE,
+        ]
+    )
+
+
+def answered_question(f: QuestionFacts, room: str, locale: str) -> str:
+    """The question after it was answered: prices kept, buttons gone, choice shown."""
+    return "\n".join(
+        [
+            f"Question {f.number_for_member}: at these prices,",
+            *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
+            f"you chose {room}. Saved.",
+        ]
+    )
+
+
+def division(f: DivisionFacts, kind: Kind, locale: str) -> str:
+    head = {
+        Kind.SETTLED: "Everyone agreed. The split:",
+        Kind.ACCEPTED: f"Suggested split ({f.accepted} of {f.members} agreed so far):",
+        Kind.REMINDER: "Reminder: please agree or ask to swap. The suggested split:",
+    }.get(kind, "Suggested split:")
+
+    def cash(minor: int) -> str:
+        return money(minor, f.currency, f.decimals, locale)
+
+    lines = [
+        f"• {line.member}: {line.room}, {cash(line.price)}"
+        + (
+            f" + {cash(line.shared)} shared = {cash(line.price + line.shared)}"
+            if f.shared_total
+            else ""
+        )
+        for line in f.lines
+    ]
+    lines += [
+        f"• {room} stays empty; nobody would rather have it at {cash(price)}."
+        for room, price in zip(f.empty_rooms, f.empty_prices, strict=True)
+    ]
+    total = sum(line.price + line.shared for line in f.lines)
+    check = "matches" if total == f.rent else "DOES NOT match"
+    return "\n".join(
+        [
+            head,
+            *lines,
+            f"Total {cash(total)}, which {check} the rent of {cash(f.rent)}.",
+            f"Each of you chose your room at prices within {cash(f.tolerance)} of these.",
+            "",
+            CAUTION,
+        ]
+    )
+
+
+def prompt(f: PromptFacts, locale: str) -> str:
+    return "\n".join(
+        [
+            f"You asked to swap away from {f.rooms[f.your_room]}. At the suggested prices,",
+            *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
+            "which room would you rather have? I will ask a few more questions after that.",
+        ]
+    )
+
+
+def my_answers(f: MyAnswersFacts, locale: str) -> str:
+    how = {"answer": "you answered", "rule": "worked out", "repeat": "same prices as before"}
+    rows = []
+    for line in f.lines:
+        prices = ", ".join(
+            f"{room} {money(p, f.currency, f.decimals, locale)}"
+            for room, p in zip(f.rooms, line.prices, strict=True)
+        )
+        rows.append(f"• {line.room} at {prices} ({how.get(line.how, line.how)})")
+    return "Your answers in the latest round (only you see this):\n" + (
+        "\n".join(rows) or "• none yet"
+    )
+
+
+def round_text(
+    f: RoundFacts, kind: Kind, locale: str, need_private_chat: tuple[str, ...] = ()
+) -> str:
+    headline = {
+        Kind.DRAFT_SAVED: "New round set up.",
+        Kind.JOINING_OPEN: 'The round is open: tap "Count me in" to join.',
+        Kind.MEMBER_JOINED: "Someone joined the round.",
+        Kind.MEMBER_LEFT: "Someone left the round.",
+        Kind.ASKING_STARTED: "Everyone is in. I am sending each of you questions privately.",
+        Kind.OBJECTION_NOTED: "Someone would rather swap at those prices, so I will ask a "
+        "few more questions privately.",
+        Kind.CANCELLED: "The round was cancelled. Nothing was agreed.",
+        Kind.LAPSED: "The round ran out of time and is closed. Nothing was agreed.",
+    }.get(kind, "Round update.")
+    lines = [headline, *_settings_lines(f, locale)]
+    if f.reused:
+        lines.append(f"Earlier answers reused for: {', '.join(f.reused)}.")
+    if f.reused_by_default:
+        lines.append(
+            f"({', '.join(f.reused_by_default)} did not choose, so their earlier answers "
+            "are reused.)"
+        )
+    if need_private_chat and kind in (Kind.JOINING_OPEN, Kind.MEMBER_JOINED, Kind.ASKING_STARTED):
+        lines.append(
+            f"Still to open a private chat with me (button below): {', '.join(need_private_chat)}."
+        )
+    if kind in (Kind.MEMBER_JOINED, Kind.JOINING_OPEN) and len(f.members) == len(f.rooms):
+        lines.append("Every room has a member now: the admin can send /begin.")
+    elif kind is Kind.MEMBER_JOINED and f.empty_allowed and len(f.members) >= 2:
+        lines.append("Rooms may stay empty, so the admin can send /begin whenever all are in.")
+    return "\n".join(lines)
+
+
+def _settings_lines(f: RoundFacts, locale: str) -> list[str]:
+    def cash(minor: int) -> str:
+        return money(minor, f.currency, f.decimals, locale)
+
+    lines = [
+        f"Total per month: {cash(f.rent)}. Rooms: {', '.join(f.rooms)}.",
+        f"Tolerance: {cash(f.tolerance)}."
+        + (f" Lowest price per room: {cash(f.floor)}." if f.floor else ""),
+    ]
+    if f.shared or f.per_person:
+        lines.append(
+            f"Shared costs: {cash(f.shared)} split evenly, plus {cash(f.per_person)} per "
+            "person; the rest is split by rooms."
+        )
+    if f.common:
+        lines.append(f"Not let (common space or storage): {', '.join(f.common)}.")
+    if f.empty_allowed:
+        lines.append(
+            "Rooms may stay empty: with fewer members than rooms, the method decides which."
+        )
+    lines.append(
+        f"Members ({len(f.members)} of {len(f.rooms)}): {', '.join(f.members) or 'nobody yet'}."
+    )
+    return lines
+
+
+def board(status: StatusFacts, locale: str) -> str:
+    """The group's progress line: counts and who is awaited, never anyone's answers."""
+    r = status.round
+    waiting = ", ".join(name for _, name in status.waiting_for) or "nobody"
+    phase = {
+        "asking": "Questions are going round privately.",
+        "proposed": "A split is proposed; waiting for everyone to agree.",
+        "settled": "Settled.",
+    }.get(r.phase, f"The round is {r.phase}.")
+    return (
+        f"{phase}\nRent {money(r.rent, r.currency, r.decimals, locale)}; rooms: "
+        f"{', '.join(r.rooms)}.\nQuestions answered so far: {status.answered}. "
+        f"Waiting for: {waiting}."
+    )
+
+
+def needs_private_chat(name: str, link: str) -> str:
+    return (
+        f"{name}, I cannot write to you privately yet, and your questions are waiting. "
+        f"Open {link} and press Start; I will send them right away."
+    )
+
+
+COMMANDS: tuple[tuple[str, str], ...] = (
+    ("newround", "Set up a round: /newround 1850 EUR; Loft, Attic, Bay room"),
+    ("begin", "Start the private questions once every room has a member"),
+    ("status", "Where the round stands and who it is waiting for"),
+    ("leave", "Leave the round before the questions start"),
+    ("myanswers", "Get your own answers, privately"),
+    ("cancelround", "Stop the open round (admin)"),
+    ("adjust", "Change the settings before the questions start (admin)"),
+    ("again", "Run the last settled round again with the same people and settings"),
+    ("changeover", "Someone moved out or in: new round, same rooms and rent, all join again"),
+    ("agreements", "List this group's past agreements"),
+    ("help", "What I do and how it works"),
+)
+
+
+def help_text() -> str:
+    commands = "\n".join(f"/{name} - {description}" for name, description in COMMANDS)
+    return (
+        "I help flatmates agree who takes which room and how the rent is split, so that "
+        "nobody would rather swap.\n\n"
+        "1. An admin sends /newround with the rent and the rooms, e.g.\n"
+        "   /newround 1850.00 EUR; Loft, Attic, Bay room; tolerance 5; floor 0\n"
+        "   or just /newround and I will ask.\n"
+        '2. Everyone taps "Count me in" and opens a private chat with me.\n'
+        "3. The admin sends /begin. I ask each of you a few questions privately.\n"
+        "4. I post a suggested split; everyone agrees or asks to swap.\n\n"
+        f"{commands}\n\n{HOW_IT_WORKS}\n\n{CAUTION}"
+    )

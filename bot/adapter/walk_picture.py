@@ -1,0 +1,65 @@
+"""The picture that goes with a proposal: how the prices moved while the flatmates answered.
+
+A proposal asks people to trust a result they did not see being made. The picture shows the
+price lists they were asked about and how the walk closed in on the suggested split, so the
+group can see it was worked out from their answers. It is an extra: anything going wrong here
+is logged and the proposal stands without it (:func:`send_walk_picture` never raises).
+"""
+
+from __future__ import annotations
+
+import asyncio
+import logging
+from dataclasses import dataclass
+
+from telegram import Bot
+
+from bot.adapter.pictures import picture_data, render_png
+from bot.rounds.engine import Engine
+
+log = logging.getLogger(__name__)
+FILENAME = "walk.png"
+#: Telegram Bot API, sendPhoto: caption is 0-1024 characters after entities parsing
+#: (core.telegram.org/bots/api#sendphoto).
+CAPTION_LIMIT = 1024
+CAPTION = (
+    "How the prices moved: each mark is a price list someone was asked about, in the "
+    "colour and shape of the room they chose. The suggested split is where the walk ended."
+)
+
+
+@dataclass(frozen=True, slots=True)
+class WalkPicture:
+    """A rendered picture of one round's walk, ready to send."""
+
+    png: bytes
+    caption: str
+
+
+async def walk_picture(engine: Engine, round_id: int) -> WalkPicture | None:
+    """Render the round's walk; None when the round has no walk yet."""
+    found = await engine.walk_of(round_id)
+    if found is None:
+        return None
+    walk, settings = found
+    data = picture_data(walk)
+    # Matplotlib takes a moment; a worker thread keeps the bot answering meanwhile.
+    png = await asyncio.to_thread(render_png, data, settings.currency, settings.decimals)
+    return WalkPicture(png, CAPTION[:CAPTION_LIMIT])
+
+
+async def send_walk_picture(bot: Bot, engine: Engine, chat_id: int, round_id: int) -> int | None:
+    """Send the picture to the group as a photo; returns its message id, None on any failure."""
+    try:
+        picture = await walk_picture(engine, round_id)
+        if picture is None:
+            return None
+        sent = await bot.send_photo(
+            chat_id, photo=picture.png, caption=picture.caption, filename=FILENAME
+        )
+    except asyncio.CancelledError:
+        raise
+    except Exception:
+        log.exception("the picture for round %s was not sent; the proposal stands", round_id)
+        return None
+    return sent.message_id

@@ -1,0 +1,1 @@
+"""Benchmarks (scripts, never tests): ``python -m bot.bench.engine``, ``.load``, ``.adapter``."""

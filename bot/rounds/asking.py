@@ -1,0 +1,306 @@
+"""Driving the solver's walk: questions out, answers in, proposals, acceptances, objections.
+
+Every function runs inside the event's transaction. The order inside each is the order that
+keeps storage consistent: the walk moves, the walk JSON and the answer are written together,
+and only then are the messages that announce them queued.
+"""
+
+from __future__ import annotations
+
+from bot.rounds.buttons import issue_choice
+from bot.rounds.context import Context
+from bot.rounds.errors import NotAllowed, RefusalCode, StaleAction
+from bot.rounds.events import Actor
+from bot.rounds.message_facts import (
+    agreement_facts,
+    division_facts,
+    question_facts,
+    question_ref,
+    round_facts,
+)
+from bot.rounds.messages import (
+    Action,
+    Kind,
+    Outgoing,
+    ProgressFacts,
+    PromptFacts,
+    Recipient,
+)
+from bot.rounds.permissions import require_member
+from bot.rounds.phases import Phase, Step, transition
+from bot.rounds.records import AuditKind, QuestionRecord, RoundRecord, TimerKind
+from solver import InvalidAnswer, Proposal, Question, Walk
+from solver.problem import is_placeholder
+
+
+async def start_walk(ctx: Context, record: RoundRecord, walk: Walk) -> None:
+    """The first questions of a new walk (the start may already infer some answers)."""
+    ctx.walks[record.id] = (record.walk_rev, walk)
+    await log_inferred(ctx, record, walk, since=0)
+    await sync_walk(ctx, record, walk)
+
+
+async def sync_walk(ctx: Context, record: RoundRecord, walk: Walk) -> None:
+    """Save the walk, then ask any newly opened question or announce a new proposal."""
+    await ctx.save_walk(record.id, walk)
+    for question in walk.open_questions():
+        if await ctx.tx.question(record.id, question.id) is None:
+            await ask(ctx, record, walk, question)
+    await withdraw_unneeded(ctx, record, walk)
+    proposal = walk.proposal()
+    current = await ctx.tx.round_by_id(record.id)
+    if proposal is not None and current is not None and current.phase is Phase.ASKING:
+        await propose(ctx, current, proposal)
+
+
+async def withdraw_unneeded(ctx: Context, record: RoundRecord, walk: Walk) -> None:
+    """Close stored questions the walk no longer needs (a look-ahead guess that missed).
+
+    The member's message loses its buttons, no reminder follows, and a late press is refused.
+    """
+    still_open = {q.id for q in walk.open_questions()}
+    for stored in await ctx.tx.questions(record.id):
+        if stored.open and stored.qid not in still_open:
+            await ctx.tx.withdraw_question(record.id, stored.qid, ctx.now)
+            await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER], ref=stored.qid)
+            await ctx.audit(record.id, AuditKind.WITHDRAWN, stored.user_id, qid=stored.qid)
+            facts = ProgressFacts(record.id, 0, 0, None, question_ref(record.id, stored.qid))
+            ctx.send(Outgoing(Recipient.person(stored.user_id), Kind.WITHDRAWN, facts))
+
+
+async def ask(ctx: Context, record: RoundRecord, walk: Walk, question: Question) -> None:
+    user_id = int(question.member)
+    await ctx.tx.insert_question(
+        QuestionRecord(
+            round_id=record.id,
+            qid=question.id,
+            user_id=user_id,
+            prices=question.prices,
+            choices=question.choices,
+            asked_at=ctx.now,
+            answered_at=None,
+            room=None,
+        )
+    )
+    await ctx.tx.add_timer(
+        record.id, TimerKind.REMINDER, user_id, question.id, ctx.now + ctx.config.reminder_after
+    )
+    await ctx.audit(record.id, AuditKind.QUESTION, user_id, qid=question.id, prices=question.prices)
+    ctx.send(await question_message(ctx, record, walk, question, Kind.QUESTION))
+
+
+async def question_message(
+    ctx: Context, record: RoundRecord, walk: Walk, question: Question, kind: Kind
+) -> Outgoing:
+    """A question (or its reminder) with one button per room on offer."""
+    choices = [
+        await issue_choice(ctx, record.id, Action.ANSWER, question.id, room)
+        for room in question.choices
+    ]
+    number = walk.questions_per_member()[question.member]
+    facts = question_facts(record, question, number)
+    return Outgoing(
+        Recipient.person(int(question.member)),
+        kind,
+        facts,
+        tuple(choices),
+        ref=facts.question_ref,
+    )
+
+
+async def propose(ctx: Context, record: RoundRecord, proposal: Proposal) -> None:
+    """Announce a division to the group and open acceptance."""
+    number = record.proposal_no + 1
+    phase = transition(record.phase, Step.WALK_PROPOSED)
+    await ctx.tx.update_round(record.id, at=ctx.now, phase=phase, proposal_no=number)
+    await ctx.tx.clear_accepted(record.id)
+    await ctx.audit(
+        record.id,
+        AuditKind.PROPOSAL,
+        None,
+        proposal_no=number,
+        assignment=dict(proposal.assignment),
+        prices=proposal.prices,
+        envy_bound=proposal.envy_bound,
+    )
+    members = await ctx.tx.members(record.id)
+    for member in members:
+        await ctx.tx.add_timer(
+            record.id,
+            TimerKind.REMINDER,
+            member.user_id,
+            f"p{number}",
+            ctx.now + ctx.config.reminder_after,
+        )
+    choices = (
+        await issue_choice(ctx, record.id, Action.ACCEPT, str(number)),
+        await issue_choice(ctx, record.id, Action.OBJECT, str(number)),
+    )
+    facts = division_facts(record, members, proposal, number)
+    ctx.send(Outgoing(Recipient.group(record.group_id), Kind.PROPOSAL, facts, choices))
+
+
+async def answer(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room: int) -> None:
+    """A member answers their own open question; everything else is refused unchanged."""
+    members = await ctx.tx.members(record.id)
+    require_member(members, actor)
+    stored = await ctx.tx.question(record.id, qid)
+    if stored is None:
+        raise StaleAction("that question is unknown; use the buttons of your latest question")
+    if stored.user_id != actor.user_id:
+        raise NotAllowed(
+            "that question was sent to another member; answer only your own questions",
+            RefusalCode.NOT_YOURS,
+        )
+    if stored.answered_at is not None:
+        raise StaleAction(
+            f"you already answered this question ({record.settings.rooms[stored.room or 0]}); "
+            "your answer is stored, nothing changed"
+        )
+    if stored.withdrawn_at is not None:
+        raise StaleAction(
+            "that question is no longer needed: the others' answers took the walk elsewhere; "
+            "nothing changed"
+        )
+    if record.phase is not Phase.ASKING:
+        raise StaleAction("this round is no longer asking questions; nothing changed")
+    walk = ctx.walk(record)
+    before = len(walk.records)
+    try:
+        walk.answer(qid, room)
+    except InvalidAnswer as exc:
+        raise StaleAction(f"that answer cannot be used: {exc}") from exc
+    await ctx.tx.record_answer(record.id, qid, room, ctx.now)
+    await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER], ref=qid)
+    await ctx.audit(
+        record.id, AuditKind.ANSWER, actor.user_id, qid=qid, prices=stored.prices, room=room
+    )
+    await log_inferred(ctx, record, walk, since=before + 1)
+    ctx.send(_progress(record, walk, actor, room, qid))
+    await sync_walk(ctx, record, walk)
+
+
+def _progress(record: RoundRecord, walk: Walk, actor: Actor, room: int, qid: str) -> Outgoing:
+    asked = [r for r in walk.records if r.source == "asked"]
+    mine = sum(1 for r in asked if r.member == str(actor.user_id))
+    facts = ProgressFacts(
+        record.id, len(asked), mine, record.settings.rooms[room], question_ref(record.id, qid)
+    )
+    return Outgoing(Recipient.person(actor.user_id), Kind.PROGRESS, facts)
+
+
+async def log_inferred(ctx: Context, record: RoundRecord, walk: Walk, *, since: int) -> None:
+    """Audit answers the walk worked out without asking (boundary rule, repeated prices).
+
+    Stand-ins for rooms that stay empty are not people, so their labels are not audited.
+    """
+    for entry in walk.records[since:]:
+        if entry.source in ("rule", "repeat") and not is_placeholder(entry.member):
+            await ctx.audit(
+                record.id,
+                AuditKind.INFERRED,
+                int(entry.member),
+                prices=entry.prices,
+                room=entry.room,
+                how=entry.source,
+            )
+
+
+def _current_proposal(record: RoundRecord, ref: str, walk: Walk) -> Proposal:
+    proposal = walk.proposal()
+    if record.phase is not Phase.PROPOSED or ref != str(record.proposal_no) or proposal is None:
+        raise StaleAction("that proposal has been replaced or closed; use the latest one")
+    return proposal
+
+
+async def accept(ctx: Context, record: RoundRecord, actor: Actor, ref: str) -> None:
+    """A member accepts the current proposal; the last acceptance settles the round."""
+    members = await ctx.tx.members(record.id)
+    me = require_member(members, actor)
+    proposal = _current_proposal(record, ref, ctx.walk(record))
+    if me.accepted_at is not None:
+        raise StaleAction("you have already accepted this proposal; nothing changed")
+    await ctx.tx.set_accepted(record.id, actor.user_id, ctx.now)
+    await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER], ref=f"p{ref}")
+    await ctx.audit(record.id, AuditKind.ACCEPTED, actor.user_id, proposal_no=record.proposal_no)
+    members = await ctx.tx.members(record.id)
+    facts = division_facts(record, members, proposal, record.proposal_no)
+    if facts.accepted < facts.members:
+        ctx.send(Outgoing(Recipient.group(record.group_id), Kind.ACCEPTED, facts))
+        return
+    phase = transition(record.phase, Step.ALL_ACCEPTED)
+    await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
+    await ctx.tx.drop_timers(record.id)
+    await ctx.audit(
+        record.id,
+        AuditKind.AGREEMENT,
+        None,
+        proposal_no=record.proposal_no,
+        assignment=dict(proposal.assignment),
+        prices=proposal.prices,
+        empty_rooms=list(proposal.empty_rooms),
+        shared=facts.shared_total,
+    )
+    ctx.send(Outgoing(Recipient.group(record.group_id), Kind.SETTLED, facts))
+    settled = await ctx.tx.round_by_id(record.id)
+    assert settled is not None
+    document = agreement_facts(settled, members, proposal)
+    ctx.send(Outgoing(Recipient.group(record.group_id), Kind.AGREEMENT, document))
+
+
+async def begin_objection(ctx: Context, record: RoundRecord, actor: Actor, ref: str) -> None:
+    """Step one of an objection: ask the member privately which room they would rather take."""
+    members = await ctx.tx.members(record.id)
+    me = require_member(members, actor)
+    proposal = _current_proposal(record, ref, ctx.walk(record))
+    if me.accepted_at is not None:
+        raise StaleAction("you have already accepted this proposal; it can no longer be objected")
+    own = proposal.assignment[str(actor.user_id)]
+    choices = tuple(
+        [
+            await issue_choice(ctx, record.id, Action.PREFER, ref, room)
+            for room in range(len(record.settings.rooms))
+            if room != own
+        ]
+    )
+    await ctx.audit(record.id, AuditKind.OBJECTION_STARTED, actor.user_id, proposal_no=ref)
+    s = record.settings
+    facts = PromptFacts(
+        record.id, record.proposal_no, s.rooms, proposal.prices, s.currency, s.decimals, own
+    )
+    ctx.send(Outgoing(Recipient.person(actor.user_id), Kind.ROOM_PROMPT, facts, choices))
+
+
+async def object_with_room(
+    ctx: Context, record: RoundRecord, actor: Actor, ref: str, room: int
+) -> None:
+    """Step two: the member names the room; the walk disputes and asks everyone again."""
+    members = await ctx.tx.members(record.id)
+    me = require_member(members, actor)
+    walk = ctx.walk(record)
+    proposal = _current_proposal(record, ref, walk)
+    if me.accepted_at is not None:
+        raise StaleAction("you have already accepted this proposal; it can no longer be objected")
+    before = len(walk.records)
+    try:
+        walk.dispute(str(actor.user_id), room)
+    except InvalidAnswer as exc:
+        raise StaleAction(f"that objection cannot be used: {exc}") from exc
+    phase = transition(record.phase, Step.OBJECTION_UPHELD)
+    await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
+    await ctx.tx.clear_accepted(record.id)
+    await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER])
+    await ctx.audit(
+        record.id, AuditKind.OBJECTION, actor.user_id, prices=proposal.prices, room=room
+    )
+    await log_inferred(ctx, record, walk, since=before + 1)
+    current = await ctx.tx.round_by_id(record.id)
+    assert current is not None
+    ctx.send(
+        Outgoing(
+            Recipient.group(record.group_id),
+            Kind.OBJECTION_NOTED,
+            round_facts(current, await ctx.tx.members(record.id)),
+        )
+    )
+    await sync_walk(ctx, current, walk)

@@ -1,0 +1,237 @@
+"""The round engine: one event in, a list of messages out, one transaction in between.
+
+``handle`` opens a write transaction, returns ``[]`` if the event's key was processed before,
+otherwise runs the event's handler and records the key in the same transaction. Refusals roll
+everything back and come back as a single :attr:`~bot.rounds.messages.Kind.REFUSAL` message, so bad
+input never leaves anything half-stored. Because the store commits before ``handle``
+returns, every answer is durable before the adapter acknowledges it.
+
+The messages are also written to the outbox table in that same transaction, so the adapter
+can send whatever a crash left unsent (:mod:`bot.adapter.delivery`). Refusals are not stored: they
+change nothing and are answered directly.
+
+The engine keeps no state of its own except a cache of walks keyed by their stored revision;
+an engine built afresh on the same database continues exactly where the old one stopped.
+"""
+
+from __future__ import annotations
+
+import json
+
+from bot.rounds import answer_reuse, asking, deadlines, lifecycle
+from bot.rounds.clock import Clock
+from bot.rounds.context import Context, EngineConfig, WalkCache
+from bot.rounds.errors import NotAllowed, Refusal, StaleAction
+from bot.rounds.events import (
+    Actor,
+    BeginAsking,
+    Cancel,
+    Configure,
+    Event,
+    Join,
+    Leave,
+    MoveGroup,
+    OpenJoining,
+    Press,
+    Rerun,
+    ShowMyAnswers,
+    Tick,
+)
+from bot.rounds.message_facts import agreement_facts
+from bot.rounds.messages import (
+    Action,
+    AgreementFacts,
+    AnswerLine,
+    Kind,
+    MyAnswersFacts,
+    Outgoing,
+    Recipient,
+    RefusalFacts,
+    StatusFacts,
+)
+from bot.rounds.outbox_codec import encode
+from bot.rounds.permissions import require_member
+from bot.rounds.records import OWN_ANSWER_KINDS, TimerRecord
+from bot.rounds.retrying import retry_transient
+from bot.rounds.round_settings import RoundSettings
+from bot.rounds.status import status_of
+from bot.rounds.store_port import Store
+from solver import Walk
+
+
+class Engine:
+    """Drives rounds for any number of groups over one :class:`~bot.rounds.store_port.Store`."""
+
+    def __init__(self, store: Store, *, clock: Clock, config: EngineConfig) -> None:
+        self._store = store
+        self._clock = clock
+        self._config = config
+        self._walks: WalkCache = {}
+
+    async def handle(self, event: Event) -> list[Outgoing]:
+        """Apply ``event`` once; the returned messages are already backed by committed state.
+
+        A transaction the database aborted for a passing reason (a dropped PostgreSQL
+        connection) is run again from the start; the idempotency key makes that safe.
+        """
+        return await retry_transient(lambda: self._handle_once(event))
+
+    async def _handle_once(self, event: Event) -> list[Outgoing]:
+        now = event.now if isinstance(event, Tick) else self._clock()
+        try:
+            async with self._store.transaction() as tx:
+                if await tx.seen_event(event.key):
+                    return []
+                ctx = Context(tx, now, self._config, self._walks)
+                await _dispatch(ctx, event)
+                await _store_outgoing(ctx, event.key)
+                await tx.mark_event(event.key, now)
+        except Refusal as refusal:
+            return [_refusal_message(event, refusal)]
+        self._walks.update(ctx.walks)
+        return ctx.out
+
+    async def due_timers(self, now: int) -> list[TimerRecord]:
+        """Timers due at ``now`` that have not fired (what the next Tick will handle)."""
+        async with self._store.transaction() as tx:
+            return await tx.due_timers(now)
+
+    async def status(
+        self, *, group_id: int | None = None, round_id: int | None = None
+    ) -> StatusFacts | None:
+        """The group's latest round (or round ``round_id``) with its progress; None if none."""
+        async with self._store.transaction() as tx:
+            ctx = Context(tx, self._clock(), self._config, self._walks)
+            if round_id is not None:
+                record = await tx.round_by_id(round_id)
+            elif group_id is not None:
+                record = await tx.latest_round(group_id)
+            else:
+                raise ValueError("status() needs group_id or round_id")
+            result = None if record is None else await status_of(ctx, record)
+        self._walks.update(ctx.walks)
+        return result
+
+    async def history(self, group_id: int) -> list[AgreementFacts]:
+        """The group's settled rounds as agreements, oldest first (read only)."""
+        async with self._store.transaction() as tx:
+            ctx = Context(tx, self._clock(), self._config, self._walks)
+            found = []
+            for record in await tx.settled_rounds(group_id):
+                proposal = ctx.walk(record).proposal()
+                if proposal is not None:
+                    found.append(agreement_facts(record, await tx.members(record.id), proposal))
+        return found
+
+    async def walk_of(self, round_id: int) -> tuple[Walk, RoundSettings] | None:
+        """The round's walk and settings (read only; from the cache when current), or None.
+
+        For pictures of how the prices moved: the adapter asks the engine rather than parsing
+        stored walks itself.
+        """
+        async with self._store.transaction() as tx:
+            record = await tx.round_by_id(round_id)
+            if record is None or record.walk_json is None:
+                return None
+            ctx = Context(tx, self._clock(), self._config, self._walks)
+            walk = ctx.walk(record)
+        self._walks.update(ctx.walks)
+        return walk, record.settings
+
+    async def pending_timers(self) -> list[TimerRecord]:
+        """Every timer still to fire; the adapter rebuilds its job queue from this at start-up."""
+        async with self._store.transaction() as tx:
+            return await tx.pending_timers()
+
+
+async def _dispatch(ctx: Context, event: Event) -> None:
+    if isinstance(event, Configure):
+        await lifecycle.configure(ctx, event)
+    elif isinstance(event, OpenJoining):
+        await lifecycle.open_joining(ctx, event.group_id, event.actor)
+    elif isinstance(event, Join):
+        await lifecycle.join(ctx, await lifecycle.open_round_of(ctx, event.group_id), event.actor)
+    elif isinstance(event, Leave):
+        await lifecycle.leave(ctx, event.group_id, event.actor)
+    elif isinstance(event, BeginAsking):
+        await lifecycle.begin_asking(ctx, event.group_id, event.actor)
+    elif isinstance(event, Cancel):
+        await lifecycle.cancel(ctx, event.group_id, event.actor)
+    elif isinstance(event, Rerun):
+        await lifecycle.rerun(ctx, event.group_id, event.actor, event.keep_members)
+    elif isinstance(event, Press):
+        await _press(ctx, event)
+    elif isinstance(event, ShowMyAnswers):
+        await _show_my_answers(ctx, event.group_id, event.actor)
+    elif isinstance(event, MoveGroup):
+        await ctx.tx.move_group(event.old_group_id, event.new_group_id)
+    else:
+        await deadlines.fire_due(ctx)
+
+
+async def _store_outgoing(ctx: Context, event_key: str) -> None:
+    """Every message of this event into the outbox, in order, before the commit."""
+    for seq, message in enumerate(ctx.out):
+        await ctx.tx.add_outgoing(
+            event_key=event_key,
+            seq=seq,
+            chat_id=message.to.chat_id,
+            round_id=getattr(message.facts, "round_id", None),
+            kind=message.kind.value,
+            ref=message.ref,
+            payload=encode(message),
+            at=ctx.now,
+        )
+
+
+async def _press(ctx: Context, event: Press) -> None:
+    """Look the token up and do what it stands for, as the presser."""
+    token = await ctx.tx.token(event.token)
+    record = None if token is None else await ctx.tx.round_by_id(token.round_id)
+    if token is None or record is None:
+        raise StaleAction("this button is not valid any more; use the latest message")
+    if token.action is Action.JOIN:
+        await lifecycle.join(ctx, record, event.actor)
+    elif token.action is Action.ANSWER:
+        assert token.room is not None
+        await asking.answer(ctx, record, event.actor, token.ref, token.room)
+    elif token.action is Action.ACCEPT:
+        await asking.accept(ctx, record, event.actor, token.ref)
+    elif token.action is Action.OBJECT:
+        await asking.begin_objection(ctx, record, event.actor, token.ref)
+    elif token.action in (Action.KEEP_EARLIER, Action.ANSWER_AFRESH):
+        keep = token.action is Action.KEEP_EARLIER
+        await answer_reuse.choose(ctx, record, event.actor, token.ref, keep)
+    else:
+        assert token.room is not None
+        await asking.object_with_room(ctx, record, event.actor, token.ref, token.room)
+
+
+async def _show_my_answers(ctx: Context, group_id: int, actor: Actor) -> None:
+    """Only the member's own answers, only to that member, from the group's latest round."""
+    record = await ctx.tx.latest_round(group_id)
+    if record is None:
+        raise NotAllowed("this group has no round yet, so you have no answers to see")
+    require_member(await ctx.tx.members(record.id), actor)
+    lines = []
+    for entry in await ctx.tx.audit_of(record.id, actor.user_id):
+        if entry.kind in OWN_ANSWER_KINDS:
+            detail = json.loads(entry.detail)
+            room = record.settings.rooms[int(detail["room"])]
+            how = str(detail.get("how", entry.kind))
+            prices = tuple(int(p) for p in detail["prices"])
+            lines.append(AnswerLine(entry.at, prices, room, how))
+    s = record.settings
+    facts = MyAnswersFacts(record.id, s.currency, s.decimals, s.rooms, tuple(lines))
+    ctx.send(Outgoing(Recipient.person(actor.user_id), Kind.MY_ANSWERS, facts))
+
+
+def _refusal_message(event: Event, refusal: Refusal) -> Outgoing:
+    """Group commands are answered in the group; presses and the rest privately."""
+    facts = RefusalFacts(refusal.code.value, str(refusal))
+    group_id = getattr(event, "group_id", None)
+    actor = getattr(event, "actor", None)
+    if isinstance(event, Press | ShowMyAnswers) or group_id is None:
+        user_id = actor.user_id if isinstance(actor, Actor) else 0
+        return Outgoing(Recipient.person(user_id), Kind.REFUSAL, facts)
+    return Outgoing(Recipient.group(int(group_id)), Kind.REFUSAL, facts)

@@ -1,0 +1,108 @@
+"""An invariant checker over a full dump of the store, run after every step in stress tests.
+
+In the spirit of sortedcontainers' ``_check``: cheap to call, says exactly what is broken. It
+works on the table dump (``SqliteStore.dump()``), so it judges what is *stored*, which is what
+survives a restart.
+"""
+
+from __future__ import annotations
+
+import json
+from collections import Counter, defaultdict
+from typing import Any
+
+from bot.rounds.phases import OPEN_PHASES, Phase
+from bot.rounds.round_settings import RoundSettings
+from solver import BrokenInvariant, Walk
+
+Dump = dict[str, list[tuple[Any, ...]]]
+
+
+def check_dump(dump: Dump) -> None:
+    """Raise :class:`~solver.BrokenInvariant` naming the first broken rule."""
+    members: defaultdict[int, list[tuple[Any, ...]]] = defaultdict(list)
+    for row in dump["members"]:
+        members[row[0]].append(row)
+    questions: defaultdict[int, list[tuple[Any, ...]]] = defaultdict(list)
+    for row in dump["questions"]:
+        questions[row[0]].append(row)
+    open_per_group = Counter(row[1] for row in dump["rounds"] if Phase(row[3]) in OPEN_PHASES)
+    crowded = [group for group, count in open_per_group.items() if count > 1]
+    _require(not crowded, f"groups {crowded} have more than one open round")
+    for row in dump["rounds"]:
+        _check_round(row, members[row[0]], questions[row[0]])
+
+
+def _check_round(
+    row: tuple[Any, ...], members: list[tuple[Any, ...]], questions: list[tuple[Any, ...]]
+) -> None:
+    round_id, phase, settings = row[0], Phase(row[3]), RoundSettings.from_json(row[4])
+    rooms = len(settings.rooms)
+    _require(len(members) <= rooms, f"round {round_id} has more members than rooms")
+    if row[5] is None:
+        _require(not questions, f"round {round_id} has questions but no walk")
+        _require(
+            phase not in (Phase.ASKING, Phase.PROPOSED, Phase.SETTLED),
+            f"round {round_id} is {phase.value} without a walk",
+        )
+        return
+    _require(
+        len(members) == rooms or settings.fewest_members <= len(members) < rooms,
+        f"round {round_id} asks with {len(members)} of {rooms}",
+    )
+    walk = Walk.from_json(row[5])
+    room_rent = settings.room_rent(len(members))
+    # With empty rooms the question prices list every room and need not add up to the rent.
+    _check_questions(round_id, walk, questions, room_rent if len(members) == rooms else None)
+    accepted = [m for m in members if m[4] is not None]
+    if phase is Phase.ASKING:
+        _require(walk.proposal() is None, f"round {round_id} is asking but the walk proposed")
+        _require(not accepted, f"round {round_id} is asking but has acceptances")
+    if phase in (Phase.PROPOSED, Phase.SETTLED):
+        proposal = walk.proposal()
+        _require(proposal is not None, f"round {round_id} is {phase.value} without a proposal")
+        assert proposal is not None
+        let = sum(proposal.prices[room] for room in proposal.assignment.values())
+        _require(let == room_rent, f"round {round_id}: let rooms' prices != rent by rooms")
+        shares = settings.shared_parts(len(members))
+        _require(let + sum(shares) == settings.rent, f"round {round_id}: payments != total")
+    if phase is Phase.SETTLED:
+        _require(
+            len(accepted) == len(members), f"round {round_id} settled without every acceptance"
+        )
+
+
+def _check_questions(
+    round_id: int, walk: Walk, questions: list[tuple[Any, ...]], rent: int | None
+) -> None:
+    open_ids = {q.id for q in walk.open_questions()}
+    stored_open = {q[1] for q in questions if q[7] is None and q[9] is None}
+    _require(
+        stored_open <= open_ids,
+        f"round {round_id}: stored open questions {stored_open} not open in the walk {open_ids}",
+    )
+    asked = {r.seq: r for r in walk.records if r.source == "asked"}
+    for q in questions:
+        prices = json.loads(q[3])
+        _require(
+            rent is None or sum(prices) == rent, f"round {round_id} question {q[1]}: prices != rent"
+        )
+        if q[7] is None:
+            continue
+        record = asked.get(int(q[1][1:]))
+        _require(record is not None, f"round {round_id}: answer {q[1]} missing from the walk")
+        assert record is not None
+        _require(
+            record.room == q[8] and str(q[2]) == record.member,
+            f"round {round_id}: stored answer {q[1]} differs from the walk's",
+        )
+    stored = {q[1] for q in questions if q[7] is not None}
+    _require(
+        {f"q{seq}" for seq in asked} == stored,
+        f"round {round_id}: the walk's answers and the stored answers differ",
+    )
+
+
+def _require(condition: bool, message: str) -> None:
+    if not condition:
+        raise BrokenInvariant(message)

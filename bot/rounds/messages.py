@@ -1,0 +1,292 @@
+"""What the engine asks the adapter to send: plain frozen data, no wording, no markup.
+
+Money facts are integer minor units plus a currency code; names are as people typed them.
+Choices are ``(action, token)`` pairs: the adapter puts the token (12 characters) into the
+button's callback data with a short prefix and sends it back in a
+:class:`~bot.rounds.events.Press`. Turning an :class:`Outgoing` into text is the adapter's job
+(:mod:`bot.adapter.texts`; the written agreement: :mod:`bot.rounds.agreement_document`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from enum import Enum
+
+
+@dataclass(frozen=True, slots=True)
+class Recipient:
+    """A group chat (``private=False``) or a person's private chat with the bot."""
+
+    chat_id: int
+    private: bool
+
+    @classmethod
+    def group(cls, chat_id: int) -> Recipient:
+        return cls(chat_id, private=False)
+
+    @classmethod
+    def person(cls, user_id: int) -> Recipient:
+        return cls(user_id, private=True)
+
+
+class Kind(Enum):
+    """What a message is about; the adapter picks wording and layout by kind."""
+
+    DRAFT_SAVED = "draft-saved"
+    JOINING_OPEN = "joining-open"
+    MEMBER_JOINED = "member-joined"
+    MEMBER_LEFT = "member-left"
+    ASKING_STARTED = "asking-started"
+    QUESTION = "question"
+    PROGRESS = "progress"
+    WITHDRAWN = "withdrawn"
+    PROPOSAL = "proposal"
+    ACCEPTED = "accepted"
+    ROOM_PROMPT = "room-prompt"
+    OBJECTION_NOTED = "objection-noted"
+    SETTLED = "settled"
+    CANCELLED = "cancelled"
+    LAPSED = "lapsed"
+    REMINDER = "reminder"
+    HOLD_UP = "hold-up"
+    MY_ANSWERS = "my-answers"
+    REFUSAL = "refusal"
+    EARLIER_OFFER = "earlier-offer"
+    EARLIER_CHOSEN = "earlier-chosen"
+    AGREEMENT = "agreement"
+
+
+class Action(Enum):
+    """What pressing a button does (stored with its token)."""
+
+    JOIN = "join"
+    ANSWER = "answer"
+    ACCEPT = "accept"
+    OBJECT = "object"
+    PREFER = "prefer"
+    KEEP_EARLIER = "keep-earlier"
+    ANSWER_AFRESH = "answer-afresh"
+
+
+@dataclass(frozen=True, slots=True)
+class Choice:
+    """A button: ``room`` is set for answers and preferences (index into the rooms)."""
+
+    action: Action
+    token: str
+    room: int | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class RoundFacts:
+    """The round as the group sees it."""
+
+    round_id: int
+    group_id: int
+    phase: str
+    rent: int
+    currency: str
+    decimals: int
+    rooms: tuple[str, ...]
+    tolerance: int
+    floor: int
+    members: tuple[str, ...]
+    member_ids: tuple[int, ...] = ()
+    shared: int = 0
+    per_person: int = 0
+    common: tuple[str, ...] = ()
+    empty_allowed: bool = False
+    #: Asking started: whose earlier answers are reused, and who got that by default.
+    reused: tuple[str, ...] = ()
+    reused_by_default: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class QuestionFacts:
+    """A private question: at these prices (one per room), which of ``choices`` would you take?"""
+
+    round_id: int
+    question_ref: str
+    rooms: tuple[str, ...]
+    prices: tuple[int, ...]
+    currency: str
+    decimals: int
+    choices: tuple[int, ...]
+    number_for_member: int
+
+
+@dataclass(frozen=True, slots=True)
+class ProgressFacts:
+    """After an answer (private) or a step (group): how far things are."""
+
+    round_id: int
+    answers_stored: int
+    answered_by_you: int
+    room_taken: str | None = None
+    question_ref: str | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class DivisionLine:
+    """One line of a division: who, which room, how much."""
+
+    member: str
+    user_id: int
+    room_index: int
+    room: str
+    price: int
+    shared: int = 0
+
+
+@dataclass(frozen=True, slots=True)
+class DivisionFacts:
+    """A proposed or settled division, with the promise behind it (never anyone's answers)."""
+
+    round_id: int
+    proposal_no: int
+    rent: int
+    currency: str
+    decimals: int
+    lines: tuple[DivisionLine, ...]
+    tolerance: int
+    envy_bound: int
+    accepted: int
+    members: int
+    shared_total: int = 0
+    empty_rooms: tuple[str, ...] = ()
+    empty_prices: tuple[int, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class PromptFacts:
+    """Private follow-up to an objection: which room would you rather take at these prices?"""
+
+    round_id: int
+    proposal_no: int
+    rooms: tuple[str, ...]
+    prices: tuple[int, ...]
+    currency: str
+    decimals: int
+    your_room: int
+
+
+@dataclass(frozen=True, slots=True)
+class WaitingFacts:
+    """For the admin after the round deadline: who the round is waiting for."""
+
+    round_id: int
+    waiting_for: tuple[str, ...]
+    phase: str
+    since: int
+
+
+@dataclass(frozen=True, slots=True)
+class AnswerLine:
+    """One of your own answers."""
+
+    at: int
+    prices: tuple[int, ...]
+    room: str
+    how: str
+
+
+@dataclass(frozen=True, slots=True)
+class MyAnswersFacts:
+    """A member's own answers; sent only to that member."""
+
+    round_id: int
+    currency: str
+    decimals: int
+    rooms: tuple[str, ...]
+    lines: tuple[AnswerLine, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class EarlierFacts:
+    """Private, to a member who was in the previous round: reuse those answers or not?
+
+    ``usable`` is False when the rooms changed, so earlier answers cannot be matched up;
+    ``keep`` is the member's choice once made (None: not chosen, which means reuse).
+    """
+
+    round_id: int
+    previous_round: int
+    usable: bool
+    keep: bool | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class AgreementLine:
+    """One member in the written agreement, with the answer that supports their room."""
+
+    member: str
+    user_id: int
+    room_index: int
+    room: str
+    price: int
+    shared: int
+    accepted_at: int
+    evidence_prices: tuple[int, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class AgreementFacts:
+    """Everything the written agreement shows; nobody's answers except each one's evidence."""
+
+    round_id: int
+    group_id: int
+    settled_at: int
+    rent: int
+    currency: str
+    decimals: int
+    rooms: tuple[str, ...]
+    common: tuple[str, ...]
+    lines: tuple[AgreementLine, ...]
+    empty_rooms: tuple[str, ...]
+    empty_prices: tuple[int, ...]
+    shared: int
+    per_person: int
+    tolerance: int
+    envy_bound: int
+
+
+@dataclass(frozen=True, slots=True)
+class RefusalFacts:
+    """Why a request was refused and what to do instead."""
+
+    code: str
+    reason: str
+
+
+Facts = (
+    RoundFacts
+    | QuestionFacts
+    | ProgressFacts
+    | DivisionFacts
+    | PromptFacts
+    | WaitingFacts
+    | MyAnswersFacts
+    | RefusalFacts
+    | EarlierFacts
+    | AgreementFacts
+)
+
+
+@dataclass(frozen=True, slots=True)
+class Outgoing:
+    """One message to send. ``ref`` lets the adapter report the sent message id back."""
+
+    to: Recipient
+    kind: Kind
+    facts: Facts
+    choices: tuple[Choice, ...] = field(default=())
+    ref: str | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class StatusFacts:
+    """The round as the group sees it, with progress; ``waiting_for`` is (user id, name)."""
+
+    round: RoundFacts
+    answered: int
+    waiting_for: tuple[tuple[int, str], ...]
