@@ -14,7 +14,7 @@ from telegram import ForceReply, Message, Update
 from telegram.ext import BaseHandler, CommandHandler, ConversationHandler, MessageHandler, filters
 
 from bot.adapter.handlers import GROUP_TYPES, new_round_with_arguments, set_up_round
-from bot.adapter.runtime import AnyContext
+from bot.adapter.runtime import AnyContext, runtime_of
 from bot.rounds.errors import InvalidSetup
 from bot.rounds.round_settings import check_rent, check_rooms
 from bot.rounds.setup_input import RentInput, SetupInput, parse_rent, split_names
@@ -66,8 +66,9 @@ async def got_rent(update: Update, context: AnyContext) -> int:
     if message is None or not _replying_to_us(update, context):
         return ASK_RENT
     try:
-        rent = parse_rent(message.text or "")
-        check_rent(rent, None)
+        locale = runtime_of(context).settings.locale
+        rent = parse_rent(message.text or "", locale)
+        check_rent(rent, None, locale)
     except InvalidSetup as bad:
         await _ask(message, f"Not quite: {bad}. Please reply with the rent again.")
         return ASK_RENT
@@ -89,7 +90,8 @@ async def got_rooms(update: Update, context: AnyContext) -> int:
     if not isinstance(rent, RentInput):  # the draft was lost (a restart): start again
         await _ask(message, RENT_QUESTION)
         return ASK_RENT
-    await set_up_round(update, context, SetupInput(rent=rent, rooms=rooms))
+    locale = runtime_of(context).settings.locale
+    await set_up_round(update, context, SetupInput(rent=rent, rooms=rooms, locale=locale))
     return ConversationHandler.END
 
 

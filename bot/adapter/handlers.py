@@ -118,7 +118,7 @@ async def new_round_with_arguments(update: Update, context: AnyContext) -> None:
     if found is None:
         return
     try:
-        setup = parse_setup_line(_arguments(found[0]))
+        setup = parse_setup_line(_arguments(found[0]), runtime_of(context).settings.locale)
     except InvalidSetup as bad:
         await _reply(update, f"Not done: {bad}.")
         return
@@ -137,7 +137,7 @@ async def adjust(update: Update, context: AnyContext) -> None:
         return
     message, chat, user = found
     try:
-        setup = parse_adjust_line(_arguments(message))
+        setup = parse_adjust_line(_arguments(message), runtime_of(context).settings.locale)
     except InvalidSetup as bad:
         await _reply(update, f"Not done: {bad}.")
         return

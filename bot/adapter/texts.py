@@ -14,7 +14,7 @@ from babel.numbers import format_currency
 
 from bot.rounds.agreement_document import Document, html_document, markdown
 from bot.rounds.agreement_document import when as agreement_time
-from bot.rounds.caution import CAUTION
+from bot.rounds.caution import CAUTION, SHORT_CAUTION
 from bot.rounds.messages import (
     AgreementFacts,
     DivisionFacts,
@@ -30,6 +30,7 @@ from bot.rounds.messages import (
     StatusFacts,
     WaitingFacts,
 )
+from bot.rounds.phases import Phase
 
 #: Telegram Bot API: message text is 1-4096 characters after entities parsing
 #: (core.telegram.org/bots/api#sendmessage).
@@ -91,7 +92,9 @@ def render(message: Outgoing, locale: str, *, need_private_chat: tuple[str, ...]
         return f"Saved: you would take {f.room_taken}. Thank you, the next step is on its way."
     if isinstance(f, WaitingFacts):
         who = ", ".join(f.waiting_for) or "nobody"
-        return f"Your round has been {f.phase} for a while. Still waiting for: {who}."
+        return (
+            f"Your round has been {Phase(f.phase).in_words} for a while. Still waiting for: {who}."
+        )
     if isinstance(f, MyAnswersFacts):
         return my_answers(f, locale)
     if isinstance(f, EarlierFacts):
@@ -123,7 +126,7 @@ def earlier_offer(f: EarlierFacts) -> str:
 def agreement_caption(f: AgreementFacts, locale: str) -> str:
     """The caption of the written agreement's file."""
     return (
-        f"The written agreement, settled {agreement_time(f.settled_at)}: "
+        f"The written agreement, agreed {agreement_time(f.settled_at)}: "
         f"total {money(f.rent, f.currency, f.decimals, locale)}. Keep it with your papers."
     )
 
@@ -136,7 +139,10 @@ def agreement_files(f: AgreementFacts) -> tuple[Document, Document]:
 def history(agreements: list[AgreementFacts], locale: str) -> str:
     """The group's past agreements, newest first: when, the total, who took which room."""
     if not agreements:
-        return "No agreements yet in this group. Once a round is settled, it is listed here."
+        return (
+            "No agreements yet in this group. Once everyone has agreed to a split, it is "
+            "listed here."
+        )
     blocks = []
     for f in reversed(agreements):
         rooms = "; ".join(
@@ -149,7 +155,7 @@ def history(agreements: list[AgreementFacts], locale: str) -> str:
             f"• {agreement_time(f.settled_at)}, total "
             f"{money(f.rent, f.currency, f.decimals, locale)}: {rooms}.{empty}"
         )
-    return "Agreements of this group, newest first:\n" + "\n".join(blocks)
+    return "Agreements of this group, newest first:\n" + "\n".join(blocks) + f"\n{SHORT_CAUTION}"
 
 
 def refusal(f: RefusalFacts) -> str:
@@ -170,9 +176,9 @@ def question(f: QuestionFacts, locale: str, *, reminder: bool) -> str:
     offered = ", ".join(f.rooms[i] for i in f.choices)
     return "\n".join(
         [
-            f"{head}Question {f.number_for_member}: if the rent were split like this,",
+            f"{head}Question {f.number_for_member}: at these prices, which room would you take?",
             *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
-            f"which room would you take? (You can pick: {offered}.)",
+            f"(You can pick: {offered}.)",
         ]
     )
 
@@ -248,6 +254,7 @@ def prompt(f: PromptFacts, locale: str) -> str:
             f"You asked to swap away from {f.rooms[f.your_room]}. At the suggested prices,",
             *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
             "which room would you rather have? I will ask a few more questions after that.",
+            SHORT_CAUTION,
         ]
     )
 
@@ -261,8 +268,10 @@ def my_answers(f: MyAnswersFacts, locale: str) -> str:
             for room, p in zip(f.rooms, line.prices, strict=True)
         )
         rows.append(f"• {line.room} at {prices} ({how.get(line.how, line.how)})")
-    return "Your answers in the latest round (only you see this):\n" + (
-        "\n".join(rows) or "• none yet"
+    return (
+        "Your answers in the latest round (only you see this):\n"
+        + ("\n".join(rows) or "• none yet")
+        + f"\n{SHORT_CAUTION}"
     )
 
 
@@ -332,8 +341,8 @@ def board(status: StatusFacts, locale: str) -> str:
     phase = {
         "asking": "Questions are going round privately.",
         "proposed": "A split is proposed; waiting for everyone to agree.",
-        "settled": "Settled.",
-    }.get(r.phase, f"The round is {r.phase}.")
+        "settled": "Done: everyone agreed to the split.",
+    }.get(r.phase, f"The round is {Phase(r.phase).in_words}.")
     return (
         f"{phase}\nRent {money(r.rent, r.currency, r.decimals, locale)}; rooms: "
         f"{', '.join(r.rooms)}.\nQuestions answered so far: {status.answered}. "
@@ -356,7 +365,7 @@ COMMANDS: tuple[tuple[str, str], ...] = (
     ("myanswers", "Get your own answers, privately"),
     ("cancelround", "Stop the open round (admin)"),
     ("adjust", "Change the settings before the questions start (admin)"),
-    ("again", "Run the last settled round again with the same people and settings"),
+    ("again", "Run the last agreed round again with the same people and settings"),
     ("changeover", "Someone moved out or in: new round, same rooms and rent, all join again"),
     ("agreements", "List this group's past agreements"),
     ("help", "What I do and how it works"),

@@ -56,6 +56,9 @@ class ChatLog:
         if message.photo is not None:
             size = len(message.photo.content)
             return f"(picture {message.photo.filename}, {size:,} bytes) {message.caption or ''}"
+        if message.document is not None:
+            size = len(message.document.content)
+            return f"(file {message.document.filename}, {size:,} bytes) {message.caption or ''}"
         return message.text or ""
 
     def _buttons(self, message: SimMessage) -> str:

@@ -27,6 +27,7 @@ from bot.demo.flat import ADDRESS, CURRENCY, DECIMALS, FLATMATES, rooms_for
 from bot.demo.sandbox_round import DemoOptions, DemoResult, run_round
 from bot.demo.terminal_player import InputEnded
 from bot.rounds.caution import CAUTION
+from bot.rounds.phases import Phase
 from bot.sandbox import SpecNotFound
 from solver.problem import MIN_TOLERANCE
 from solver.simulate import MODELS
@@ -79,7 +80,9 @@ def envy_text(envy: float) -> str:
 
 def summary(console: Console, result: DemoResult) -> None:
     """The agreed division, envy by each flatmate's own values, questions, picture."""
-    table = Table(title=f"{ADDRESS}: the division ({result.phase})", title_justify="left")
+    table = Table(
+        title=f"{ADDRESS}: the division ({Phase(result.phase).in_words})", title_justify="left"
+    )
     for column in ("Flatmate", "Room", "Pays", "Envy*", "OK", "Questions"):
         table.add_column(column, justify="left" if column in ("Flatmate", "Room") else "right")
     for name in result.names:
@@ -103,6 +106,9 @@ def summary(console: Console, result: DemoResult) -> None:
     check = "matches" if total == result.rent else "DOES NOT match"
     console.print(f"Total {euros(total)}, which {check} the rent of {euros(result.rent)}.")
     console.print(f"Tolerance {euros(result.tolerance)}.")
+    console.print(CAUTION)
+    for path in result.documents:
+        console.print(f"Written agreement (as sent to the group): {path}")
     if result.picture is not None:
         console.print(f"Picture of the walk (as sent to the group): {result.picture}")
     else:
@@ -112,7 +118,7 @@ def summary(console: Console, result: DemoResult) -> None:
         f"{result.api_calls} Bot API calls, {len(result.violations)} against the spec; "
         f"wall time {result.seconds:.1f} s."
     )
-    console.print(Panel(f"{HOW_IT_WORKS}\n\n{CAUTION}", title="How it works", expand=False))
+    console.print(Panel(HOW_IT_WORKS, title="How it works", expand=False))
 
 
 def _input_ended(error: BaseException) -> InputEnded | None:
@@ -131,11 +137,14 @@ def main(argv: Sequence[str] | None = None, console: Console | None = None) -> i
     options = parse(argv)
     # The stand-in's HTTP server logs each request; the chat log already tells the story.
     logging.getLogger("tornado.access").setLevel(logging.CRITICAL)
+    # A skipped outbox tick (the previous one still sending, on a busy machine) is harmless:
+    # the next tick sends. It is not part of the story the chat log tells.
+    logging.getLogger("apscheduler").setLevel(logging.ERROR)
     shown = console or Console(highlight=False)
     rooms = ", ".join(f"{r.name} ({r.about})" for r in rooms_for(options.rooms))
     shown.rule(f"Flatpact sandbox demo: {ADDRESS}")
     shown.print(f"An invented flat with {options.rooms} rooms: {rooms}.")
-    shown.print("Telegram is simulated on 127.0.0.1; the bot is the real one. " + CAUTION)
+    shown.print("Telegram is simulated on 127.0.0.1; the bot is the real one.")
     try:
         result = asyncio.run(run_round(options, shown))
     except SpecNotFound as missing:

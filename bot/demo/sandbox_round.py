@@ -37,6 +37,7 @@ from bot.demo.flatmates import Flatmate, Household, Mind
 from bot.demo.standin_settings import settings_for
 from bot.demo.terminal_player import TerminalPlayer
 from bot.rounds.messages import StatusFacts
+from bot.rounds.phases import Phase
 from bot.sandbox import BotApiStandIn, SimChat, SimMessage
 from solver import Walk
 from solver.money import format_minor
@@ -45,6 +46,8 @@ from solver.simulate import Model, Tenant
 FINAL_PHASES = frozenset({"settled", "cancelled", "lapsed"})
 DATABASE_NAME = "demo.sqlite3"
 PICTURE_NAME = "walk.png"
+#: The written agreement comes as Markdown and HTML.
+AGREEMENT_FILES = 2
 _Check = Callable[[StatusFacts], bool]
 
 
@@ -77,6 +80,8 @@ class DemoResult:
     asked: dict[str, int]
     answered_by_hand: str | None
     picture: Path | None
+    #: the written agreement as the group received it (Markdown and HTML), saved under --out
+    documents: tuple[Path, ...]
     database: Path
     seconds: float
     api_calls: int
@@ -172,8 +177,8 @@ class _Round:
                 waiting = ", ".join(name for _, name in status.waiting_for) or "nobody"
                 progress.update(
                     task,
-                    description=f"{status.round.phase}: {status.answered} answers so far, "
-                    f"waiting for {waiting}",
+                    description=f"{Phase(status.round.phase).in_words}: "
+                    f"{status.answered} answers so far, waiting for {waiting}",
                 )
             if status is not None and status.round.phase in FINAL_PHASES:
                 self.household.stop()
@@ -190,6 +195,19 @@ class _Round:
         with contextlib.suppress(TimeoutError):
             return await self.standin.wait_for(sent, timeout=5)
         return None
+
+    async def documents(self, phase: str) -> list[SimMessage]:
+        """The written agreement's files (Markdown and HTML) once everyone agreed."""
+
+        def both() -> list[SimMessage] | None:
+            found = [m for m in self.standin.world.messages_in(self.group) if m.document]
+            return found if len(found) >= AGREEMENT_FILES else None
+
+        if phase != "settled":
+            return []
+        with contextlib.suppress(TimeoutError):
+            return await self.standin.wait_for(both, timeout=10)
+        return [m for m in self.standin.world.messages_in(self.group) if m.document]
 
 
 def _minds(
@@ -253,11 +271,13 @@ async def run_round(
                 raise
             final = watcher.result()
             photo = await demo.photo()
+            documents = await demo.documents(final.round.phase)
             walk = await _stored_walk(demo.runtime, group.id)
             shown = await _questions_shown(demo.runtime, group.id)
             stop_printing.set()
             await follower
         picture = _save_picture(photo, options.out)
+        saved = _save_documents(documents, options.out)
         by_id = {str(p.id): p.first_name for p in people}
         proposal = walk.proposal() if walk is not None else None
         return DemoResult(
@@ -272,6 +292,7 @@ async def run_round(
             asked={by_id[str(m)]: n for m, n in shown.items()},
             answered_by_hand=options.play,
             picture=picture,
+            documents=saved,
             database=database,
             seconds=time.monotonic() - started,
             api_calls=len(standin.calls),
@@ -309,6 +330,17 @@ async def _questions_shown(runtime: Runtime, group_id: int) -> dict[int, int]:
     for question in questions:
         shown[question.user_id] = shown.get(question.user_id, 0) + 1
     return shown
+
+
+def _save_documents(messages: list[SimMessage], out: Path) -> tuple[Path, ...]:
+    """Write each file the group received, under its own name."""
+    saved = []
+    for message in messages:
+        if message.document is not None:
+            path = out / Path(message.document.filename).name
+            path.write_bytes(message.document.content)
+            saved.append(path)
+    return tuple(saved)
 
 
 def _save_picture(photo: SimMessage | None, out: Path) -> Path | None:

@@ -1,4 +1,4 @@
-"""The written agreement of a settled round: facts in, Markdown or HTML text out.
+"""The written agreement of a round everyone agreed to: facts in, Markdown or HTML text out.
 
 Pure: no Telegram, no storage, no clock (the settlement time is in the facts). The document
 is for the flatmates' own records, so it says everything needed to understand the split later
@@ -98,13 +98,13 @@ def _content(f: AgreementFacts) -> _Content:
     room_total = sum(line.price for line in f.lines)
     shared_total = sum(line.shared for line in f.lines)
     flat = [
-        f"Settled: {when(f.settled_at)} (round {f.round_id})",
+        f"Agreed: {when(f.settled_at)} (round {f.round_id})",
         f"Total per month: {amount(f.rent, f)}",
         f"Rooms in the split: {', '.join(f.rooms)}",
     ]
     if f.common:
         flat.append(f"Not let (common space or storage): {', '.join(f.common)}")
-    rows = [
+    rows: list[tuple[str, ...]] = [
         (
             line.member,
             line.room,
@@ -114,7 +114,7 @@ def _content(f: AgreementFacts) -> _Content:
         )
         for line in f.lines
     ]
-    total = (
+    total: tuple[str, ...] = (
         "Total",
         f"{len(f.lines)} rooms let",
         amount(room_total, f),
@@ -125,9 +125,16 @@ def _content(f: AgreementFacts) -> _Content:
         f"{room} stays empty; nobody would rather have it at {amount(price, f)}."
         for room, price in zip(f.empty_rooms, f.empty_prices, strict=True)
     ]
+    header: tuple[str, ...] = ("Member", "Room", "Room price", "Shared part", "Pays")
+    if not shared_total:  # no shared costs: the shared column would be all zeros
+
+        def keep(cells: tuple[str, ...]) -> tuple[str, ...]:
+            return cells[:3] + cells[4:]
+
+        header, rows, total = keep(header), [keep(row) for row in rows], keep(total)
     return _Content(
         flat=flat,
-        header=("Member", "Room", "Room price", "Shared part", "Pays"),
+        header=header,
         rows=rows,
         total=total,
         empties=empties,
@@ -223,6 +230,17 @@ def markdown(f: AgreementFacts) -> Document:
 # --- HTML ----------------------------------------------------------------------------------
 
 
+#: Readable on paper: one column of text, ruled table, amounts right-aligned.
+PRINT_STYLE = (
+    "body{font-family:Georgia,serif;max-width:42em;margin:2em auto;line-height:1.4}"
+    "table{border-collapse:collapse;width:100%}"
+    "th,td{border:1px solid #444;padding:.3em .5em;text-align:left}"
+    "td:nth-child(n+3),th:nth-child(n+3){text-align:right}"
+    "tfoot td{font-weight:bold}"
+    "@media print{body{margin:0;max-width:none}}"
+)
+
+
 def html_document(f: AgreementFacts) -> Document:
     c = _content(f)
     e = html.escape
@@ -261,7 +279,8 @@ def html_document(f: AgreementFacts) -> Document:
             "<!DOCTYPE html>",
             '<html lang="en">',
             '<head><meta charset="utf-8">',
-            f"<title>{e(TITLE)}</title></head>",
+            f"<title>{e(TITLE)}</title>",
+            f"<style>{PRINT_STYLE}</style></head>",
             "<body>",
             *body,
             "</body>",

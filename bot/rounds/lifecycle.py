@@ -54,7 +54,7 @@ async def configure(ctx: Context, event: Configure) -> None:
     if record.phase not in (Phase.DRAFTING, Phase.GATHERING):
         raise IllegalMove(
             "settings can only change while members are still joining (before the questions "
-            f"start), and this round is {record.phase.value}; cancel it and start again to "
+            f"start), and this round is {record.phase.in_words}; cancel it and start again to "
             "change them"
         )
     settings = amend_settings(record.settings, event.setup)
@@ -100,7 +100,7 @@ async def open_joining(ctx: Context, group_id: int, actor: Actor) -> None:
 
 async def join(ctx: Context, record: RoundRecord, actor: Actor) -> None:
     if record.phase is not Phase.GATHERING:
-        raise IllegalMove(f"joining is not open: the round is {record.phase.value}")
+        raise IllegalMove(f"joining is not open: the round is {record.phase.in_words}")
     members = await ctx.tx.members(record.id)
     if any(m.user_id == actor.user_id for m in members):
         raise Refusal("you have already joined this round; nothing changed")
@@ -210,7 +210,8 @@ async def rerun(ctx: Context, group_id: int, actor: Actor, keep_members: bool) -
         raise NotAllowed("only the admin of the last round or a group admin can re-run it")
     if previous.phase not in RERUN_FROM:
         raise IllegalMove(
-            f"only a settled round can be re-run; the last one is {previous.phase.value}. "
+            f"only a round everyone agreed to can be re-run; the last one is "
+            f"{previous.phase.in_words}. "
             "Set up a new round instead"
         )
     round_id = await ctx.tx.insert_round(

@@ -48,6 +48,26 @@ class Phase(Enum):
         """Open rounds block a new round in the same group."""
         return self in OPEN_PHASES
 
+    @property
+    def in_words(self) -> str:
+        """Where the round is, as people read it ("the round is ..."); never the stored name.
+
+        The stored values are internal; people see these phrases (settled rounds are shown
+        as *agreed*).
+        """
+        return _IN_WORDS[self]
+
+
+_IN_WORDS = {
+    Phase.DRAFTING: "still being set up",
+    Phase.GATHERING: "still collecting members",
+    Phase.ASKING: "asking its questions",
+    Phase.PROPOSED: "waiting for everyone to agree to the suggested split",
+    Phase.SETTLED: "agreed by everyone",
+    Phase.CANCELLED: "cancelled",
+    Phase.LAPSED: "closed because it ran out of time",
+}
+
 
 class Step(Enum):
     """What happens to a round; each is an edge label in the diagram above."""

@@ -11,15 +11,15 @@ from __future__ import annotations
 
 import json
 import re
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
 from fractions import Fraction
 from typing import Any
 
 from bot.rounds.errors import InvalidSetup
+from bot.rounds.money_text import shown
 from bot.rounds.setup_input import RentInput, SetupInput, TypedAmount, currency_decimals
 from solver import InvalidProblem, Problem, split_exactly
-from solver.money import format_minor
 from solver.problem import MAX_NAME_LENGTH, MAX_ROOMS, MIN_ROOMS, MIN_TOLERANCE
 
 #: Larger rents are almost certainly typing slips (ten million euros a month).
@@ -124,7 +124,7 @@ class RoundSettings:
         )
 
 
-def check_rent(rent: RentInput, current: str | None) -> Money:
+def check_rent(rent: RentInput, current: str | None, locale: str = "en") -> Money:
     """The rent in minor units of the currency typed with it, else of the ``current`` one."""
     code = rent.currency or current
     if code is None:
@@ -135,6 +135,11 @@ def check_rent(rent: RentInput, current: str | None) -> Money:
     if minor > MAX_RENT_MINOR:
         raise InvalidSetup(
             "that rent is implausibly large; check for extra digits and type the monthly total"
+        )
+    if minor <= MIN_ROOMS * MIN_TOLERANCE:
+        raise InvalidSetup(
+            f"a rent of {shown(minor, code, locale)} is too small to split between rooms; "
+            "type the monthly total"
         )
     return Money(minor, code)
 
@@ -174,14 +179,14 @@ def build_settings(setup: SetupInput) -> RoundSettings:
     """A new round's settings; nothing is returned unless all of the input is usable."""
     if setup.rent is None or setup.rooms is None:
         raise InvalidSetup("to start a round, give the total rent with its currency and the rooms")
-    money = check_rent(setup.rent, None)
+    money = check_rent(setup.rent, None, setup.locale)
     settings = RoundSettings(
         rent=money.minor,
         currency=money.currency,
         rooms=check_rooms(setup.rooms),
         tolerance=default_tolerance(money.currency),
     )
-    return check_settings(_with_options(settings, setup))
+    return check_settings(_with_options(settings, setup), setup.locale)
 
 
 def amend_settings(current: RoundSettings, setup: SetupInput) -> RoundSettings:
@@ -191,11 +196,11 @@ def amend_settings(current: RoundSettings, setup: SetupInput) -> RoundSettings:
     """
     updated = current
     if setup.rent is not None:
-        money = check_rent(setup.rent, current.currency)
+        money = check_rent(setup.rent, current.currency, setup.locale)
         updated = replace(updated, rent=money.minor, currency=money.currency)
     if setup.rooms is not None:
         updated = replace(updated, rooms=check_rooms(setup.rooms), common=())
-    return check_settings(_with_options(updated, setup))
+    return check_settings(_with_options(updated, setup), setup.locale)
 
 
 def _with_options(settings: RoundSettings, setup: SetupInput) -> RoundSettings:
@@ -240,33 +245,58 @@ def mark_common(settings: RoundSettings, names: tuple[str, ...]) -> RoundSetting
     return replace(settings, rooms=rooms, common=common)
 
 
-def check_settings(settings: RoundSettings) -> RoundSettings:
-    """Let the solver judge the combination (floor vs rent, tolerance) in its own words.
+def check_settings(settings: RoundSettings, locale: str = "en") -> RoundSettings:
+    """Check the combination in the group's terms, amounts in its currency format.
 
     Checked for the most and, with empty rooms allowed, the fewest members, because the part
-    split by rooms shrinks with every member who pays a fixed amount.
+    split by rooms shrinks with every member who pays a fixed amount. The solver checks the
+    same limits again; its messages (in minor units) are only ever a fallback.
     """
+
+    def money(minor: int) -> str:
+        return shown(minor, settings.currency, locale)
+
+    if settings.tolerance < MIN_TOLERANCE:
+        raise InvalidSetup(
+            f"the tolerance is the most anyone could still prefer a swap, in money; it must be "
+            f"at least {money(MIN_TOLERANCE)}, e.g. {money(default_tolerance(settings.currency))}"
+        )
     if settings.tolerance >= settings.rent:
-        raise InvalidSetup("the tolerance must be smaller than the rent; 1.00 is a good start")
-    _check_shared(settings)
+        raise InvalidSetup(
+            f"the tolerance must be smaller than the rent ({money(settings.rent)}); "
+            f"{money(default_tolerance(settings.currency))} is a good start"
+        )
+    if settings.floor < -settings.rent:
+        raise InvalidSetup(
+            f"the floor is the lowest price a room can get; below zero the others pay you to "
+            f"take a room, but not more than the rent: give at least {money(-settings.rent)}"
+        )
+    _check_shared(settings, money)
     for count in sorted({settings.fewest_members, len(settings.rooms)}):
+        room_rent = settings.room_rent(count)
+        if room_rent - count * settings.floor <= len(settings.rooms):
+            highest = (room_rent - len(settings.rooms) - 1) // count
+            raise InvalidSetup(
+                f"the floor {money(settings.floor)} is too high: {count} members could not "
+                f"pay {money(room_rent)} for the rooms with every room at least that; give a "
+                f"floor of at most {money(highest)}"
+            )
         stand_ins = [f"member {i}" for i in range(count)]
         try:
             settings.problem(stand_ins)
-        except InvalidProblem as exc:
+        except InvalidProblem as exc:  # pragma: no cover - the checks above come first
             raise InvalidSetup(str(exc)) from exc
     return settings
 
 
-def _check_shared(settings: RoundSettings) -> None:
+def _check_shared(settings: RoundSettings, money: Callable[[int], str]) -> None:
     most = len(settings.rooms)
     fixed = settings.shared + settings.per_person * most
     if fixed and fixed >= settings.rent:
         raise InvalidSetup(
-            f"the shared costs ({format_minor(fixed, settings.decimals)} {settings.currency} "
-            f"with {most} members) must be less than the total "
-            f"({format_minor(settings.rent, settings.decimals)}); lower them so the rooms "
-            "have something left to split"
+            f"the shared costs ({money(fixed)} with {most} members) must be less than the "
+            f"total ({money(settings.rent)}); lower them so the rooms have something left "
+            "to split"
         )
 
 

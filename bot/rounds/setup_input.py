@@ -8,6 +8,12 @@ amount may have and its value in minor units (:meth:`TypedAmount.minor`), decide
 :mod:`bot.rounds.round_settings` once the currency is known (an ``/adjust`` may change the
 rent without repeating the currency).
 
+Amounts are read the way people type them, with Babel (CLDR data), in the group's locale
+first and then in the other common form: ``1,850.00``, ``1.850,00``, ``1 850``, ``1850``,
+with a currency code or symbol before or after (``€1850``, ``1850 €``, ``EUR 1850``). A symbol
+several currencies share (``$``, ``¥``) is answered with a question naming the codes, unless
+the locale's own territory settles it (``$`` in ``en_CA`` is CAD).
+
 Every syntax problem raises :class:`~bot.rounds.errors.InvalidSetup` with a message saying
 what to type instead.
 """
@@ -16,10 +22,20 @@ from __future__ import annotations
 
 import re
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from decimal import Decimal
+from functools import cache
 
-from babel.numbers import get_currency_precision, list_currencies
+from babel import Locale
+from babel.core import get_global
+from babel.numbers import (
+    NumberFormatError,
+    get_currency_precision,
+    get_currency_symbol,
+    get_territory_currencies,
+    list_currencies,
+    parse_decimal,
+)
 
 from bot.rounds.errors import InvalidSetup
 
@@ -32,9 +48,15 @@ _OPTION = re.compile(
     r"\s*[:=]?\s*(?P<value>.+)$",
     re.IGNORECASE,
 )
-_AMOUNT = re.compile(r"^(?P<sign>[-+]?)(?P<whole>\d+)(?:[.,](?P<frac>\d*))?$")
-_GROUPING = str.maketrans("", "", " _'\u00a0\u202f")
 _CODE_LIKE = re.compile(r"[A-Za-z]{3}")
+#: Digits with "." and "," as the only separators (grouping spaces and apostrophes removed).
+_PLAIN_NUMBER = re.compile(r"^[+-]?(?:\d[\d.,]*|[.,]\d+)$")
+_GROUPING = str.maketrans("", "", " _'\u00a0\u202f\u2009")
+_MINUS_SIGNS = str.maketrans({"\u2212": "-", "\u2013": "-"})
+#: Runs that are neither part of the number nor white space: a currency code or symbol.
+_MARKER = re.compile(r"[^\d\s.,'+\-\u2212\u2013\u00a0\u202f\u2009]+")
+#: The other common way of writing numbers, tried when the group's locale cannot read one.
+_FALLBACK_LOCALES = ("en", "de")
 
 
 def currency_decimals(code: str) -> int:
@@ -45,23 +67,34 @@ def currency_decimals(code: str) -> int:
 
 @dataclass(frozen=True, slots=True)
 class TypedAmount:
-    """A decimal amount as typed (``1850``, ``-20,5``), parsed; no currency attached yet."""
+    """A decimal amount as typed (``1,850.00``, ``-20,5``), parsed; maybe with a currency.
+
+    ``value`` keeps the decimals as typed (``1.850`` has three), so a currency with fewer
+    can refuse it instead of guessing: in money, a thousandfold misreading is worse than a
+    question.
+    """
 
     text: str
     value: Decimal
-    decimals_typed: int
+    currency: str | None = None
 
     def minor(self, currency: str, *, what: str) -> int:
         """The amount in exact minor units of ``currency``; more decimals than it has: refused.
 
         Refused rather than rounded, because only :func:`solver.money.split_exactly` rounds
-        money.
+        money. Decimal places per currency: ISO 4217, via Babel's CLDR data.
         """
+        if self.currency is not None and self.currency != currency:
+            raise InvalidSetup(
+                f"the {what} {self.text!r} is in {self.currency}, but the round is in "
+                f"{currency}; give it in {currency}"
+            )
         decimals = currency_decimals(currency)
-        if self.decimals_typed > decimals:
+        typed = max(0, -int(self.value.as_tuple().exponent))
+        if typed > decimals:
             raise InvalidSetup(
                 f"{currency} has {decimals} decimal places, but the {what} {self.text!r} has "
-                f"{self.decimals_typed}; type it with at most {decimals}"
+                f"{typed}; type it with at most {decimals}"
             )
         return int(self.value.scaleb(decimals))
 
@@ -86,6 +119,8 @@ class SetupInput:
     per_person: TypedAmount | None = None
     common: tuple[str, ...] | None = None
     empty_allowed: bool | None = None
+    #: The group's locale: how its amounts were read, and how refusals will show amounts.
+    locale: str = "en"
 
     @classmethod
     def parse(
@@ -99,15 +134,16 @@ class SetupInput:
         per_person: str | None = None,
         common: Sequence[str] | str | None = None,
         empty_allowed: str | bool | None = None,
+        locale: str = "en",
     ) -> SetupInput:
-        """Parse each piece that was given, as typed."""
+        """Parse each piece that was given, as typed in a group with this ``locale``."""
 
         def amount(text: str | None, what: str) -> TypedAmount | None:
-            return None if text is None else parse_amount(text, what=what)
+            return None if text is None else parse_money(text, what=what, locale=locale)
 
         switch = empty_allowed
         return cls(
-            rent=None if rent is None else parse_rent(rent),
+            rent=None if rent is None else parse_rent(rent, locale),
             rooms=None if rooms is None else split_names(rooms),
             tolerance=amount(tolerance, "tolerance"),
             floor=amount(floor, "floor"),
@@ -117,10 +153,11 @@ class SetupInput:
             empty_allowed=parse_switch(switch, what="empty rooms")
             if isinstance(switch, str)
             else switch,
+            locale=locale,
         )
 
     @classmethod
-    def from_options(cls, options: dict[str, str]) -> SetupInput:
+    def from_options(cls, options: dict[str, str], locale: str = "en") -> SetupInput:
         """The value of ``name value`` options (see :func:`parse_options`)."""
         return cls.parse(
             options.get("rent"),
@@ -131,15 +168,16 @@ class SetupInput:
             per_person=options.get("per person"),
             common=options.get("not let"),
             empty_allowed=options.get("empty rooms"),
+            locale=locale,
         )
 
     @property
     def empty(self) -> bool:
         """True when nothing at all was given (an ``/adjust`` with nothing to change)."""
-        return self == SetupInput()
+        return replace(self, locale="en") == SetupInput()
 
 
-def parse_setup_line(text: str) -> SetupInput:
+def parse_setup_line(text: str, locale: str = "en") -> SetupInput:
     """``1850 EUR; Loft, Attic; tolerance 5; shared 300`` -> the rent, rooms and options."""
     parts = [p.strip() for p in text.split(";")]
     if len(parts) < 2 or not parts[0] or not parts[1]:
@@ -148,13 +186,13 @@ def parse_setup_line(text: str) -> SetupInput:
             "e.g. /newround 1850.00 EUR; Loft, Attic, Bay room"
         )
     options = parse_options(parts[2:], SETUP_OPTIONS)
-    return SetupInput.from_options({**options, "rent": parts[0], "rooms": parts[1]})
+    return SetupInput.from_options({**options, "rent": parts[0], "rooms": parts[1]}, locale)
 
 
-def parse_adjust_line(text: str) -> SetupInput:
+def parse_adjust_line(text: str, locale: str = "en") -> SetupInput:
     """``rent 1900 EUR; shared 300; not let Box room``: only what is to change."""
     setup = SetupInput.from_options(
-        parse_options([p.strip() for p in text.split(";")], ADJUST_OPTIONS)
+        parse_options([p.strip() for p in text.split(";")], ADJUST_OPTIONS), locale
     )
     if setup.empty:
         raise InvalidSetup(
@@ -190,38 +228,106 @@ def parse_currency(text: str) -> str:
     return code
 
 
-def parse_rent(text: str) -> RentInput:
-    """Rent with or without its currency: ``"1850.00 EUR"``, ``"EUR 1850"``, ``"1850"``.
+def parse_rent(text: str, locale: str = "en") -> RentInput:
+    """Rent with or without its currency: ``"1,850.00 EUR"``, ``"€1850"``, ``"1850"``."""
+    amount = parse_money(text, what="rent", locale=locale)
+    return RentInput(amount, amount.currency)
 
-    Only three-letter words that are currency codes count as the currency, so a mistyped
-    amount such as ``abc EUR`` is reported as not a number rather than as a second code.
+
+def parse_money(text: str, *, what: str, locale: str = "en") -> TypedAmount:
+    """An amount with an optional currency code or symbol before or after it."""
+    cleaned = text.strip().translate(_MINUS_SIGNS)
+    markers = _MARKER.findall(cleaned)
+    if not markers:
+        return parse_amount(cleaned, what=what, locale=locale)
+    codes = [m for m in markers if _CODE_LIKE.fullmatch(m) and m.upper() in list_currencies()]
+    if len(markers) > 1:
+        if len(codes) > 1:
+            raise InvalidSetup(f"give one currency code with the {what}, e.g. 1850.00 EUR")
+        raise InvalidSetup(
+            f"the {what} {text.strip()!r} is not an amount I can read; type digits and a "
+            "currency, e.g. 1850.00 EUR"
+        )
+    marker = markers[0]
+    number = cleaned.replace(marker, " ", 1).strip()
+    at_edge = cleaned.lstrip("+-").startswith(marker) or cleaned.endswith(marker)
+    if not at_edge or not number.lstrip("+-").strip():
+        raise InvalidSetup(
+            f"the {what} {text.strip()!r} is not an amount I can read; type digits and a "
+            "currency, e.g. 1850.00 EUR"
+        )
+    amount = parse_amount(number.replace(" ", ""), what=what, locale=locale)
+    if codes:
+        code = codes[0].upper()
+    elif _CODE_LIKE.fullmatch(marker):
+        code = parse_currency(marker)  # three letters that are no currency: say so
+    else:
+        code = currency_of_symbol(marker, locale)
+    return replace(amount, text=text.strip(), currency=code)
+
+
+def currency_of_symbol(symbol: str, locale: str = "en") -> str:
+    """The currency a symbol means to this group, or a question naming the candidates.
+
+    Babel's symbol table for the group's locale decides. A symbol that several currencies
+    in use share once letters are ignored (``$``: US$, CA$, A$ ...) is ambiguous unless the
+    locale has a territory and its table gives exactly one currency that very symbol.
     """
-    words = text.strip().split()
-    known = set(list_currencies())
-    codes = [w for w in words if _CODE_LIKE.fullmatch(w) and w.upper() in known]
-    rest = [w for w in words if w not in codes]
-    if len(codes) > 1:
-        raise InvalidSetup("give one currency code with the rent, e.g. 1850.00 EUR")
-    unknown = [w for w in rest if _CODE_LIKE.fullmatch(w)]
-    numbers = [w for w in rest if w not in unknown]
-    if unknown and not codes and numbers and _AMOUNT.match("".join(numbers).translate(_GROUPING)):
-        parse_currency(unknown[0])  # a number and a word that looks like a code: say so
-    amount = parse_amount(" ".join(rest), what="rent")
-    return RentInput(amount, codes[0].upper() if codes else None)
+    table = _symbols(locale)
+    exact = sorted(code for code, shown in table.items() if shown == symbol)
+    core = _symbol_core(symbol)
+    alike = sorted(code for code, shown in table.items() if core and _symbol_core(shown) == core)
+    territory = Locale.parse(locale).territory is not None
+    if len(exact) == 1 and (territory or alike == exact):
+        return exact[0]
+    candidates = list(dict.fromkeys(exact + alike))
+    if not candidates:
+        raise InvalidSetup(
+            f"{symbol!r} is not a currency I know; type a three-letter code such as EUR, GBP or JPY"
+        )
+    examples = ", ".join(candidates[:3])
+    raise InvalidSetup(
+        f"which currency do you mean by {symbol}: {examples}"
+        + (" or another" if len(candidates) > 3 else "")
+        + f"? Type the code instead, e.g. 1850 {candidates[0]}"
+    )
 
 
-def parse_amount(text: str, *, what: str) -> TypedAmount:
-    """A decimal amount with at most one decimal separator; grouping spaces are ignored."""
-    cleaned = text.strip().translate(_GROUPING)
-    match = _AMOUNT.match(cleaned)
-    if match is None:
+@cache
+def _symbols(locale: str) -> dict[str, str]:
+    """Each currency in use today and its symbol in ``locale`` (CLDR, via Babel)."""
+    in_use: set[str] = set()
+    for territory in get_global("territory_currencies"):
+        in_use.update(get_territory_currencies(territory))
+    return {code: get_currency_symbol(code, locale) for code in sorted(in_use)}
+
+
+def _symbol_core(shown: str) -> str:
+    return re.sub(r"[A-Za-z.]", "", shown)
+
+
+def parse_amount(text: str, *, what: str, locale: str = "en") -> TypedAmount:
+    """A number as typed in the group's locale, or failing that in the other common form.
+
+    The group's reading wins whenever it has one (``1.850`` in an English group is 1.85,
+    refused for EUR as three decimals); the other forms only read what it cannot.
+    """
+    compact = text.strip().translate(_MINUS_SIGNS).translate(_GROUPING)
+    if not _PLAIN_NUMBER.match(compact):
         raise InvalidSetup(
             f"the {what} {text.strip()!r} is not a number; type digits with at most one "
             "decimal point, e.g. 1850.50"
         )
-    frac = match.group("frac") or ""
-    value = Decimal(f"{match.group('sign')}{match.group('whole')}.{frac or '0'}")
-    return TypedAmount(text.strip(), value, len(frac))
+    for form in dict.fromkeys((locale, *_FALLBACK_LOCALES)):
+        try:
+            value = parse_decimal(compact, locale=form, strict=True)
+        except NumberFormatError:
+            continue
+        if value.is_finite():
+            return TypedAmount(text.strip(), value)
+    raise InvalidSetup(
+        f"the {what} {text.strip()!r} is not a number I can read; type it like 1850.50 or 1,850.50"
+    )
 
 
 def parse_switch(text: str, *, what: str) -> bool:

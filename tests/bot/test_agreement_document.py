@@ -143,3 +143,24 @@ def test_only_each_members_supporting_answer_is_shown() -> None:
         "prices)." in text
     )
     assert "Ines &lt;b&gt;&amp;amp; | *co* chose Bay window" in text
+
+
+def test_without_shared_costs_the_table_has_no_shared_column() -> None:
+    from dataclasses import replace
+
+    with_shared = facts()
+    plain_lines = tuple(replace(line, shared=0) for line in with_shared.lines)
+    plain = replace(with_shared, lines=plain_lines, shared=0, per_person=0, rent=155_000 - 1)
+    assert "Shared part" in markdown(with_shared).text
+    assert "Shared part" in html_document(with_shared).text
+    assert "Shared part" not in markdown(plain).text
+    assert "Shared part" not in html_document(plain).text
+    header = next(line for line in markdown(plain).text.splitlines() if line.startswith("| Member"))
+    assert header.count("|") == 5  # Member, Room, Room price, Pays
+
+
+def test_the_html_is_styled_for_paper() -> None:
+    text = html_document(facts()).text
+    style = re.search(r"<style>(.*?)</style>", text, re.S)
+    assert style is not None
+    assert "border" in style.group(1) and "@media print" in style.group(1)

@@ -42,11 +42,11 @@ def test_rent_becomes_exact_minor_units(text: str, minor: int, code: str) -> Non
         ("10000001 EUR", "implausibly large"),
         ("1850.005 EUR", "2 decimal places"),
         ("1850.5 JPY", "0 decimal places"),
-        ("eighteen EUR", "not a number"),
+        ("eighteen EUR", "not an amount I can read"),
         ("1850", "which currency"),
         ("1850 XQQ", "not a currency code"),
         ("1850 EUR GBP", "one currency code"),
-        ("abc EUR", "'abc' is not a number"),
+        ("abc EUR", "not an amount I can read"),
     ],
 )
 def test_bad_rent_is_refused_with_a_reason(text: str, says: str) -> None:

@@ -78,6 +78,17 @@ async def test_demo_round_is_envy_free_by_the_flatmates_own_values(tmp_path: Pat
     assert result.violations == ()
 
 
+async def test_demo_shows_and_saves_the_written_agreement(tmp_path: Path) -> None:
+    result, chat_log = await three_rooms(tmp_path)
+    names = sorted(path.name for path in result.documents)
+    assert [name.rsplit(".", 1)[1] for name in names] == ["html", "md"]
+    for path in result.documents:
+        assert path.parent == tmp_path and path.stat().st_size > 0
+        assert f"(file {path.name}, " in chat_log  # shown as a file, not an empty line
+    assert "\nFlatpact: \n" not in chat_log
+    assert "<table>" in next(p for p in result.documents if p.suffix == ".html").read_text()
+
+
 async def test_picture_is_sent_to_the_group_and_saved(tmp_path: Path) -> None:
     result, _ = await three_rooms(tmp_path)
     _, _, walk, asked = await stored(result.database)
@@ -103,9 +114,11 @@ async def test_picture_is_sent_to_the_group_and_saved(tmp_path: Path) -> None:
 def test_main_prints_summary_and_how_it_works(tmp_path: Path) -> None:
     printed = io.StringIO()
     code = main(["--rooms", "2", "--seed", "5", "--out", str(tmp_path)], Console(file=printed))
-    text = printed.getvalue()
+    text = " ".join(printed.getvalue().split())  # the console wraps long lines
     assert code == 0
     assert "not legal or financial advice" in text
+    # The caution comes with the split, not before any split exists.
+    assert text.index("not legal or financial advice") > text.index("Suggested split")
     assert "two assumptions" in text
     assert str(tmp_path / "walk.png") in text
     assert (tmp_path / "walk.png").is_file()

@@ -55,7 +55,7 @@ def test_play_by_pipe_reaches_agreement(tmp_path: Path) -> None:
     assert demo.wait(timeout=60) == 0, "".join(output)
     text = "".join(output)
     assert questions >= 2 and proposals == 1
-    assert "the division (settled)" in text
+    assert "the division (agreed by everyone)" in text
     assert "Tomasz (you)" in text
     assert (tmp_path / "walk.png").is_file()
 
