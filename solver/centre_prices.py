@@ -64,7 +64,7 @@ def largest_margin_prices(
     values: np.ndarray, rent: int, floor: int, assignment: Sequence[int] | None = None
 ) -> CentrePrices:
     """Solve the LP of the module docstring (``values`` is members x rooms)."""
-    members, rooms = values.shape
+    rooms = values.shape[1]
     plan = tuple(assignment) if assignment is not None else welfare_assignment(values)
     let = set(plan)
     empty = [j for j in range(rooms) if j not in let]

@@ -16,7 +16,6 @@ certificate of a common price list.
 from __future__ import annotations
 
 from collections.abc import Sequence
-
 from fractions import Fraction
 
 from solver.envy import Choice, envy_bound

@@ -295,7 +295,9 @@ class ParallelSearch:
 
     def _source_of(self, member: str) -> Source:
         stage = len(self.plans)
-        return next(r.source for r in reversed(self.records) if r.member == member and r.stage == stage)
+        return next(
+            r.source for r in reversed(self.records) if r.member == member and r.stage == stage
+        )
 
     def _next_round(self) -> None:
         """Plan the next round (or hand over) and ask it."""
@@ -311,7 +313,10 @@ class ParallelSearch:
             plan = adjust_plan(self.problem, last, last_picks, steps)
         else:
             plan = centre_plan(
-                self.problem, self._values, self._boxes(), {p.base for p in self.plans}
+                self.problem,
+                self._values,
+                self._boxes(),
+                {p.base for p in self.plans},
             )
         self.plans.append(plan)
         self._round_picks = {}
@@ -339,6 +344,7 @@ class ParallelSearch:
             range(self.problem.size)
         )
         known = self._memory.get(member, {}).get(prices)
+        source: Source
         if len(choices) == 1:
             room, source = choices[0], "rule"
         elif known is not None and known in choices:

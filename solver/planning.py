@@ -56,9 +56,7 @@ def centre_plan(
     return Plan("near-tie", base, asks, lp.assignment)
 
 
-def adjust_plan(
-    problem: Problem, last: Plan, picks: Mapping[int, int], steps_taken: int
-) -> Plan:
+def adjust_plan(problem: Problem, last: Plan, picks: Mapping[int, int], steps_taken: int) -> Plan:
     """The next model-free round from the last round's choices (member index -> room)."""
     members = len(problem.members)
     share = Fraction(problem.rent, members)
