@@ -171,7 +171,7 @@ def noisy_tenants(problem: Problem, seed: int) -> dict[str, Tenant]:
     """:class:`Noisy` tenants: 5% slips when two rooms are within 2% of an equal share."""
     share = problem.rent / len(problem.members)
     base = random_tenants(problem, "quasi-linear", seed)
-    return {m: Noisy(_values_of(t), seed, m, closeness=0.02 * share) for m, t in base.items()}
+    return {m: Noisy(values_of(t), seed, m, closeness=0.02 * share) for m, t in base.items()}
 
 
 def tie_tenants(problem: Problem, seed: int) -> dict[str, Tenant]:
@@ -184,14 +184,14 @@ def tie_tenants(problem: Problem, seed: int) -> dict[str, Tenant]:
     tenants = random_tenants(problem, "quasi-linear", seed)
     rows = []
     for m in problem.members:
-        values = list(_values_of(tenants[m]))
+        values = list(values_of(tenants[m]))
         values[0] = values[1] = (values[0] + values[1]) / 2
         rows.append(tuple(values))
     rows[1] = rows[0]
     return {m: QuasiLinear(row) for m, row in zip(problem.members, rows, strict=True)}
 
 
-def _values_of(tenant: Tenant) -> tuple[float, ...]:
+def values_of(tenant: Tenant) -> tuple[float, ...]:
     if not isinstance(tenant, QuasiLinear | BudgetCapped | ConcaveInMoney | Noisy):
         raise TypeError(f"{type(tenant).__name__} has no values")
     return tenant.values
