@@ -33,13 +33,12 @@ everything from the log alone (tests check that both agree).
 
 from __future__ import annotations
 
-import json
 from collections.abc import Mapping, Sequence
 from dataclasses import replace
-from typing import Any
 
+from solver import parallel_saved as saved
 from solver.envy import Choice, envy_bound
-from solver.errors import BrokenInvariant, InvalidAnswer, InvalidState
+from solver.errors import InvalidAnswer, InvalidState
 from solver.labelling import floor_rooms
 from solver.learning import Box, ValueSet, default_box, prior_box
 from solver.planning import adjust_plan, centre_plan
@@ -49,8 +48,7 @@ from solver.rounds import Event, ParallelOptions, Plan
 from solver.search_checks import check_parallel
 from solver.walk import Walk
 
-FORMAT_NAME = "flatpact-rounds"
-FORMAT_VERSION = 1
+FORMAT_NAME = saved.FORMAT_NAME
 Earlier = Mapping[str, Sequence[tuple[Sequence[int], int]]]
 #: Median rounds by room count (``python -m solver.bench --rounds``), without / with rough values.
 TYPICAL = {2: 3, 3: 5, 4: 7, 5: 8, 6: 10, 7: 11, 8: 12, 9: 14, 10: 15}
@@ -99,10 +97,13 @@ class ParallelSearch:
         """Begin: ``rough_values[member][room]`` (optional) only steer the first estimates;
         ``earlier`` answers of staying members (``(prices, room)`` pairs) count as answers."""
         search = cls(problem, options or ParallelOptions(), rough_values, earlier or {})
-        search._begin()
+        search.begin()
         return search
 
-    def _begin(self) -> None:
+    def begin(self) -> None:
+        """Validate the inputs, record earlier answers and ask the first round (once)."""
+        if self.plans or self.records:
+            raise InvalidState("this search has begun already")
         n, m = self.problem.size, len(self.problem.members)
         if self.rough is not None and (
             len(self.rough) != m or any(len(row) != n for row in self.rough)
@@ -386,62 +387,17 @@ class ParallelSearch:
 
     def to_json(self) -> str:
         """Inputs, event log and plans; :meth:`from_json` continues exactly where it was."""
-        data = {
-            "format": FORMAT_NAME,
-            "version": FORMAT_VERSION,
-            "problem": self.problem.to_dict(),
-            "options": self.options.to_dict(),
-            "rough": self.rough,
-            "earlier": {m: [[list(p), r] for p, r in said] for m, said in self.earlier.items()},
-            "log": [list(e) for e in self.log],
-            "plans": [p.to_list() for p in self.plans],
-        }
-        return json.dumps(data, separators=(",", ":"))
+        return saved.dump(self)
 
     @classmethod
     def from_json(cls, text: str) -> ParallelSearch:
         """Restore a search saved by :meth:`to_json` (replays its log over the stored plans)."""
-        try:
-            data = json.loads(text)
-            if data.get("format") != FORMAT_NAME or data.get("version") != FORMAT_VERSION:
-                raise InvalidState(
-                    f"saved search has format {data.get('format')!r} version "
-                    f"{data.get('version')!r}; this Flatpact reads {FORMAT_NAME} v{FORMAT_VERSION}"
-                )
-            plans = [Plan.from_list(p) for p in data["plans"]]
-            return cls._rebuild(data, plans)
-        except (KeyError, TypeError, ValueError, IndexError) as exc:
-            if isinstance(exc, InvalidState):
-                raise
-            raise InvalidState(f"saved search is damaged and cannot be resumed: {exc}") from exc
+        return saved.load(cls, text, use_plans=True)
 
     @classmethod
     def replay(cls, text: str) -> ParallelSearch:
         """Recompute a saved search from its inputs and log alone (ignoring stored plans)."""
-        return cls._rebuild(json.loads(text), [])
-
-    @classmethod
-    def _rebuild(cls, data: dict[str, Any], plans: Sequence[Plan]) -> ParallelSearch:
-        earlier = {m: [(tuple(p), r) for p, r in said] for m, said in data["earlier"].items()}
-        search = cls(
-            Problem.from_dict(data["problem"]),
-            ParallelOptions.from_dict(data["options"]),
-            data["rough"],
-            earlier,
-            plans,
-        )
-        search._begin()
-        for event in data["log"]:
-            kind, *args = event
-            if kind == "answer":
-                search.answer(str(args[0]), int(args[1]))
-            elif kind == "close":
-                search.close_round()
-            elif kind == "dispute":
-                search.dispute(str(args[0]), int(args[1]))
-            else:
-                raise BrokenInvariant(f"unknown event {kind!r} in a saved search")
-        return search
+        return saved.load(cls, text, use_plans=False)
 
 
 def _check_room(room_index: object, choices: tuple[int, ...]) -> None:
