@@ -245,3 +245,22 @@ def test_entry_point_selects_the_method_and_resume_dispatches() -> None:
         solver.resume("not json")
     with pytest.raises(InvalidState, match="damaged"):
         ParallelSearch.from_json(json.dumps({"format": "flatpact-rounds", "version": 1}))
+
+
+def test_boundary_rule_at_the_floor() -> None:
+    # Rounds never price a room at the floor themselves; a stored plan that does (as after a
+    # format change) must follow the walk's rule: one floor room decides the answer without
+    # asking, several floor rooms are the only ones offered.
+    from solver.rounds import Plan
+
+    problem = Problem(rent=300, rooms=["a", "b", "c"], members=["x", "y", "z"], floor=-50)
+    one = (-50, 175, 175)
+    two = (-50, -50, 400)
+    plans = [Plan("adjust", one, (one,) * 3, None), Plan("adjust", two, (two,) * 3, None)]
+    search = ParallelSearch(problem, ParallelOptions(), None, {}, plans)
+    search.begin()
+    assert [r.source for r in search.records] == ["rule"] * 3  # round 1 decided by the rule
+    assert search.round_number == 2
+    questions = search.open_questions()
+    assert [q.choices for q in questions] == [(0, 1)] * 3
+    search.check()
