@@ -1,13 +1,19 @@
 """Flatpact's solver: envy-free rent division from "which room would you take?" answers.
 
-Pure numerics: standard library and numpy only, no I/O. The public protocol is
-``Problem``, ``Walk.start``, ``walk.open_questions()``, ``walk.answer()``, ``walk.proposal()``,
-``walk.dispute()``, ``walk.to_json()`` / ``Walk.from_json()``.
+Pure numerics: standard library, numpy and scipy, no I/O. The documented entry point is
+``solver.start(problem, method="parallel" | "walk", ...)`` and ``solver.resume(text)``; both
+methods satisfy the ``Search`` protocol: ``open_questions()``, ``answer()``, ``proposal()``,
+``dispute()``, ``counters``, ``questions_per_member()``, ``check()``, ``to_json()``. The
+parallel search adds ``round_number``, ``expected_rounds()`` and ``close_round()``.
+``Walk.start`` keeps working as before.
 """
 
 from solver.errors import BrokenInvariant, InvalidAnswer, InvalidProblem, InvalidState, SolverError
 from solver.money import split_exactly
+from solver.parallel import ParallelSearch
 from solver.problem import Problem
+from solver.rounds import ParallelOptions
+from solver.search import Search, resume, start
 from solver.walk import Counters, Evidence, Options, Proposal, Question, Walk
 
 __all__ = [
@@ -18,10 +24,15 @@ __all__ = [
     "InvalidProblem",
     "InvalidState",
     "Options",
+    "ParallelOptions",
+    "ParallelSearch",
     "Problem",
     "Proposal",
     "Question",
+    "Search",
     "SolverError",
     "Walk",
+    "resume",
     "split_exactly",
+    "start",
 ]

@@ -23,6 +23,7 @@ from collections.abc import Sequence
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import asdict, dataclass
 
+from solver.bench_rounds import SCENARIOS, measure_rounds, render_rounds, rounds_plan
 from solver.problem import Problem
 from solver.simulate import (
     MODELS,
@@ -252,7 +253,17 @@ def main(argv: Sequence[str] | None = None) -> int:
     parser.add_argument("--quick", action="store_true", help="a small smoke run")
     parser.add_argument("--json", metavar="PATH", help="also write the rows as JSON")
     parser.add_argument("--workers", type=int, default=2)
+    rounds = parser.add_argument_group("rounds table (parallel search and walk side by side)")
+    rounds.add_argument("--rounds", action="store_true", help="run the rounds table instead")
+    rounds.add_argument("--scenarios", default=",".join(SCENARIOS), help="comma-separated")
+    rounds.add_argument("--sizes", default="", help="room counts, e.g. 4,6 (default per scenario)")
+    rounds.add_argument("--walk-sizes", default="4,6", help="room counts with the walk alongside")
+    rounds.add_argument("--rough", choices=("both", "no", "yes"), default="both")
     args = parser.parse_args(argv)
+    if args.workers > 2:
+        parser.error("at most 2 worker processes: the machine is shared")
+    if args.rounds:
+        return rounds_main(args)
     plan = configs(args.seeds, args.quick)
     started = time.perf_counter()
     with ProcessPoolExecutor(max_workers=args.workers) as pool:
@@ -260,6 +271,28 @@ def main(argv: Sequence[str] | None = None) -> int:
     print(render(rows))
     print()
     print(rerun_report(args.seeds // 4 if not args.quick else 10))
+    print(f"\n{len(plan)} configurations in {time.perf_counter() - started:.0f} s")
+    if args.json:
+        with open(args.json, "w", encoding="utf-8") as fh:
+            json.dump([asdict(r) for r in rows], fh, indent=1)
+    return 0
+
+
+def rounds_main(args: argparse.Namespace) -> int:
+    """The rounds table: parallel search vs walk (``--rounds``)."""
+    sizes = [int(x) for x in args.sizes.split(",") if x]
+    rough = {"both": [False, True], "no": [False], "yes": [True]}[args.rough]
+    plan = rounds_plan(
+        args.seeds,
+        args.scenarios.split(","),
+        sizes or None,
+        [int(x) for x in args.walk_sizes.split(",") if x],
+        rough,
+    )
+    started = time.perf_counter()
+    with ProcessPoolExecutor(max_workers=args.workers) as pool:
+        rows = list(pool.map(measure_rounds, plan))
+    print(render_rounds(rows))
     print(f"\n{len(plan)} configurations in {time.perf_counter() - started:.0f} s")
     if args.json:
         with open(args.json, "w", encoding="utf-8") as fh:

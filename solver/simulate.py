@@ -12,6 +12,10 @@ Models:
 * :class:`ConcaveInMoney` — a value per room plus ``k * log(wealth - price)``: money matters
   more when less is left, so choices shift with the price level, not only with differences.
 
+* :func:`tie_tenants` — quasi-linear, with two identical rooms and two identical flatmates.
+* :class:`Noisy` — quasi-linear, but now and then answers the second-best room when the two
+  are close (a person who is not sure).
+
 ``envy(prices, room)`` is the money-metric envy: the most the tenant would pay on top of
 another room's price to swap into it (0 when they prefer their own room).
 """
@@ -25,6 +29,7 @@ from dataclasses import dataclass
 from typing import Literal, Protocol
 
 from solver.problem import Problem
+from solver.search import Search
 from solver.walk import Options, Proposal, Walk
 
 Model = Literal["quasi-linear", "budget-capped", "concave"]
@@ -129,6 +134,69 @@ class RandomAnswers:
         return 0.0
 
 
+@dataclass(frozen=True)
+class Noisy:
+    """A quasi-linear tenant who is sometimes unsure.
+
+    When the best and second-best offered rooms are within ``closeness`` (minor units) of
+    each other, they answer the second-best with probability ``slip``. The draw is seeded by
+    ``(seed, member, prices)``, so the same question gets the same answer. Envy is measured by
+    the true values.
+    """
+
+    values: tuple[float, ...]
+    seed: int
+    member: str
+    closeness: float
+    slip: float = 0.05
+
+    def choose(self, prices: Sequence[int], choices: Sequence[int], floor: int) -> int:
+        options = _miserly(prices, choices, floor)
+        ranked = sorted(options, key=lambda j: (-(self.values[j] - prices[j]), j))
+        if len(ranked) < 2:
+            return ranked[0]
+        gap = (self.values[ranked[0]] - prices[ranked[0]]) - (
+            self.values[ranked[1]] - prices[ranked[1]]
+        )
+        rng = random.Random(f"noisy:{self.seed}:{self.member}:{tuple(prices)}")
+        if gap <= self.closeness and rng.random() < self.slip:
+            return ranked[1]
+        return ranked[0]
+
+    def envy(self, prices: Sequence[int], room: int) -> float:
+        return QuasiLinear(self.values).envy(prices, room)
+
+
+def noisy_tenants(problem: Problem, seed: int) -> dict[str, Tenant]:
+    """:class:`Noisy` tenants: 5% slips when two rooms are within 2% of an equal share."""
+    share = problem.rent / len(problem.members)
+    base = random_tenants(problem, "quasi-linear", seed)
+    return {m: Noisy(values_of(t), seed, m, closeness=0.02 * share) for m, t in base.items()}
+
+
+def tie_tenants(problem: Problem, seed: int) -> dict[str, Tenant]:
+    """Quasi-linear tenants where rooms 0 and 1 are identical and members 0 and 1 too.
+
+    Identical rooms: every member values rooms 0 and 1 the same. Identical flatmates: the
+    first two members have the same values. At any common price list they answer alike, which
+    is what the near-tie rounds are for.
+    """
+    tenants = random_tenants(problem, "quasi-linear", seed)
+    rows = []
+    for m in problem.members:
+        values = list(values_of(tenants[m]))
+        values[0] = values[1] = (values[0] + values[1]) / 2
+        rows.append(tuple(values))
+    rows[1] = rows[0]
+    return {m: QuasiLinear(row) for m, row in zip(problem.members, rows, strict=True)}
+
+
+def values_of(tenant: Tenant) -> tuple[float, ...]:
+    if not isinstance(tenant, QuasiLinear | BudgetCapped | ConcaveInMoney | Noisy):
+        raise TypeError(f"{type(tenant).__name__} has no values")
+    return tenant.values
+
+
 def random_tenants(problem: Problem, model: Model, seed: int) -> dict[str, Tenant]:
     """Tenants with plausible tastes: rooms differ in quality, people differ in taste.
 
@@ -204,4 +272,25 @@ def answer_until_proposal(
                 walk.answer(question.id, tenant.choose(question.prices, question.choices, floor))
         if walk.counters.asked > max_questions:
             raise RuntimeError(f"simulated round exceeded {max_questions} questions")
+    return rounds
+
+
+def answer_in_rounds(
+    search: Search, tenants: Mapping[str, Tenant], *, max_rounds: int = 100_000
+) -> int:
+    """Answer any search in *waiting rounds*: every open question is answered, then the next.
+
+    Works for the parallel search (a round is all its open questions) and for the walk (one
+    question, or a few with look-ahead). Returns the number of waiting rounds.
+    """
+    rounds = 0
+    floor = search.problem.floor
+    while search.proposal() is None:
+        rounds += 1
+        if rounds > max_rounds:
+            raise RuntimeError(f"simulated search exceeded {max_rounds} rounds")
+        for question in list(reversed(search.open_questions())):
+            if question in search.open_questions():
+                tenant = tenants[question.member]
+                search.answer(question.id, tenant.choose(question.prices, question.choices, floor))
     return rounds

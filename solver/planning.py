@@ -1,0 +1,73 @@
+"""Choosing the next round's prices from everything learned so far.
+
+Three kinds of round (see :class:`solver.rounds.Plan`):
+
+* ``centre`` — every member's values are estimated by the analytic centre of what they said
+  (:mod:`solver.learning`); the group is asked at the envy-free prices with the largest
+  smallest margin for the estimates' welfare-maximising assignment
+  (:mod:`solver.centre_prices`). If everyone then takes a different room, those very answers
+  certify the division exactly.
+* ``near-tie`` — as ``centre``, but each member sees their planned room a little cheaper
+  (:mod:`solver.near_ties`): used once some member's values are pinned closer than the
+  tolerance, or when the plan would repeat an earlier price list (answers there are known, so
+  asking again cannot make progress).
+* ``adjust`` — model-free price adjustment (:mod:`solver.adjustment`) once any member's
+  answers contradict the one-for-one money assumption.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Collection, Mapping, Sequence
+from fractions import Fraction
+
+import numpy as np
+
+from solver.adjustment import adjusted_prices, step_size
+from solver.centre_prices import largest_margin_prices, whole_prices
+from solver.learning import Box, ValueSet
+from solver.near_ties import largest_cut, nudged
+from solver.problem import Problem
+from solver.rounds import Plan
+
+
+def centre_plan(
+    problem: Problem,
+    value_sets: Sequence[ValueSet],
+    boxes: Sequence[Box],
+    seen_bases: Collection[tuple[int, ...]],
+) -> Plan:
+    """The next ``centre`` (or ``near-tie``) round for consistent answers."""
+    estimates = np.array(
+        [vs.centre(box, problem.rent) for vs, box in zip(value_sets, boxes, strict=True)]
+    )
+    lp = largest_margin_prices(estimates, problem.rent, problem.floor)
+    let = sorted(lp.assignment)
+    base = whole_prices(lp.prices, let, problem.rent, problem.floor + 1)
+    pinned = any(
+        vs.width(own, k) < problem.tolerance
+        for vs, own in zip(value_sets, lp.assignment, strict=True)
+        for k in range(problem.size)
+        if k != own
+    )
+    if not pinned and base not in seen_bases:
+        return Plan("centre", base, (base,) * len(value_sets), lp.assignment)
+    cut = largest_cut(base, let, problem.tolerance, problem.floor)
+    asks = tuple(nudged(base, own, let, cut) for own in lp.assignment)
+    return Plan("near-tie", base, asks, lp.assignment)
+
+
+def adjust_plan(problem: Problem, last: Plan, picks: Mapping[int, int], steps_taken: int) -> Plan:
+    """The next model-free round from the last round's choices (member index -> room)."""
+    members = len(problem.members)
+    share = Fraction(problem.rent, members)
+    step = step_size(share, steps_taken)
+    moved = adjusted_prices(
+        last.base, {str(i): r for i, r in picks.items()}, members, step, problem.floor
+    )
+    if problem.empty_count:  # the dearest rooms are the let ones; they carry the rent
+        let = sorted(sorted(range(problem.size), key=lambda j: (-moved[j], j))[:members])
+        shift = Fraction(problem.rent - sum(moved[j] for j in let), members)
+        moved = whole_prices(
+            [Fraction(p) + shift for p in moved], let, problem.rent, problem.floor + 1
+        )
+    return Plan("adjust", moved, (moved,) * members, None)
