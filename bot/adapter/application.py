@@ -77,6 +77,7 @@ def _add_handlers(app: AnyApp) -> None:
     app.add_handler(command("leave", handlers.leave))
     app.add_handler(command("myanswers", handlers.my_answers))
     app.add_handler(command("cancelround", handlers.cancel_round))
+    app.add_handler(command("nextround", handlers.next_round))
     app.add_handler(command("again", handlers.run_again))
     app.add_handler(command("adjust", handlers.adjust))
     app.add_handler(command("changeover", handlers.changeover))
@@ -84,6 +85,11 @@ def _add_handlers(app: AnyApp) -> None:
     app.add_handler(CallbackQueryHandler(handlers.press, pattern=f"^{CALLBACK_PREFIX}"))
     app.add_handler(CallbackQueryHandler(handlers.unknown_button))
     app.add_handler(MessageHandler(filters.StatusUpdate.MIGRATE, handlers.group_migrated))
+    app.add_handler(
+        MessageHandler(
+            filters.ChatType.PRIVATE & filters.TEXT & ~filters.COMMAND, handlers.private_text
+        )
+    )
     app.add_error_handler(_log_error)
 
 

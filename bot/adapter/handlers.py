@@ -15,7 +15,7 @@ from telegram.error import TelegramError
 
 from bot.adapter.keyboards import group_of_payload, token_of
 from bot.adapter.runtime import AnyContext, runtime_of
-from bot.adapter.texts import CALLBACK_TEXT_LIMIT, fit, help_text, history, refusal
+from bot.adapter.texts import CALLBACK_TEXT_LIMIT, fit, help_text, history, pick_locale, refusal
 from bot.rounds.errors import InvalidSetup
 from bot.rounds.events import (
     Actor,
@@ -25,13 +25,20 @@ from bot.rounds.events import (
     Event,
     Leave,
     MoveGroup,
+    NextRound,
     OpenJoining,
     Press,
     Rerun,
+    RoughValues,
     ShowMyAnswers,
 )
 from bot.rounds.messages import Kind, Outgoing, RefusalFacts
-from bot.rounds.setup_input import SetupInput, parse_adjust_line, parse_setup_line
+from bot.rounds.setup_input import (
+    SetupInput,
+    parse_adjust_line,
+    parse_amount_list,
+    parse_setup_line,
+)
 
 log = logging.getLogger(__name__)
 GROUP_TYPES = (ChatType.GROUP, ChatType.SUPERGROUP)
@@ -149,7 +156,7 @@ async def adjust(update: Update, context: AnyContext) -> None:
 
 
 async def _admin_event(
-    update: Update, context: AnyContext, make: type[BeginAsking | Cancel]
+    update: Update, context: AnyContext, make: type[BeginAsking | Cancel | NextRound]
 ) -> None:
     found = await _group_only(update)
     if found is None:
@@ -165,6 +172,10 @@ async def begin(update: Update, context: AnyContext) -> None:
 
 async def cancel_round(update: Update, context: AnyContext) -> None:
     await _admin_event(update, context, Cancel)
+
+
+async def next_round(update: Update, context: AnyContext) -> None:
+    await _admin_event(update, context, NextRound)
 
 
 async def _rerun(update: Update, context: AnyContext, *, keep_members: bool) -> None:
@@ -207,6 +218,20 @@ async def leave(update: Update, context: AnyContext) -> None:
         return
     _, chat, user = found
     await run_and_report(update, context, Leave(update_key(update), chat.id, actor_of(user)))
+
+
+async def private_text(update: Update, context: AnyContext) -> None:
+    """A plain message in the private chat: rough values per room (or "skip")."""
+    message, chat, user = update.effective_message, update.effective_chat, update.effective_user
+    if message is None or chat is None or user is None or chat.type != ChatType.PRIVATE:
+        return
+    locale = pick_locale(user.language_code, runtime_of(context).settings.locale)
+    try:
+        amounts = parse_amount_list(message.text or "", what="rough value", locale=locale)
+    except InvalidSetup as bad:
+        await _reply(update, f"Not done: {bad}.")
+        return
+    await run_and_report(update, context, RoughValues(update_key(update), actor_of(user), amounts))
 
 
 async def my_answers(update: Update, context: AnyContext) -> None:

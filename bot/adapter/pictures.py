@@ -22,7 +22,7 @@ from dataclasses import dataclass
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 
-from solver import Walk
+from bot.rounds.searches import AnySearch, records_of
 
 OKABE_ITO = (
     "#E69F00",
@@ -64,12 +64,12 @@ class PictureData:
     proposal: tuple[int, ...] | None
 
 
-def picture_data(walk: Walk) -> PictureData:
-    """The price lists the walk labelled (asked or inferred), in order, and its result."""
+def picture_data(walk: AnySearch) -> PictureData:
+    """The price lists the search labelled (asked or inferred), in order, and its result."""
     visits = tuple(
         Visit(r.prices, r.room, r.source in ("asked", "repeat"))
-        for r in walk.records
-        if r.vertex is not None
+        for r in records_of(walk)
+        if r.vertex is not None or r.source in ("asked", "repeat", "rule")
     )
     proposal = walk.proposal()
     problem = walk.problem

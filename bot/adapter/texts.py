@@ -26,6 +26,7 @@ from bot.rounds.messages import (
     PromptFacts,
     QuestionFacts,
     RefusalFacts,
+    RoughFacts,
     RoundFacts,
     StatusFacts,
     WaitingFacts,
@@ -39,14 +40,19 @@ TEXT_LIMIT = 4096
 CALLBACK_TEXT_LIMIT = 200
 
 HOW_IT_WORKS = (
-    "How it works: every possible way of splitting the rent between the rooms is a price "
-    "list. I lay a grid over all those price lists and walk across it, asking each of you "
-    'privately: "at these prices, which room would you take?" A result known as Sperner\'s '
-    "lemma guarantees that the walk ends at a price list where each of you gets the room you "
-    "chose, so nobody would rather swap.\n\n"
+    "How it works: every way of splitting the rent between the rooms is a price list. In "
+    'each round I show all of you the same price list, privately, and ask: "at these prices, '
+    'which room would you take?" When you all pick different rooms, that price list is the '
+    "split: each of you chose your room at exactly those prices, so nobody would rather swap. "
+    "Otherwise I learn from your answers where to ask next. If that takes unusually long, I "
+    "switch to a walk across a grid of price lists, one question at a time, which a result "
+    "known as Sperner's lemma guarantees will end at a split where each of you gets the room "
+    "you chose.\n\n"
     "This rests on two assumptions: you would take a free room rather than pay for another, "
-    "and a room never becomes less attractive by getting cheaper.\n\n"
-    '"Within tolerance" means the grid is fine enough that each of you chose your room at '
+    "and a room never becomes less attractive by getting cheaper. To choose good questions I "
+    "also assume that money counts one-for-one for you; the split itself does not rely on "
+    "it.\n\n"
+    '"Within tolerance" (for a split found by the walk) means each of you chose your room at '
     "prices at most the tolerance away from the final ones: if money counts one-for-one for "
     "you, you would not pay more than the tolerance to swap with anyone."
 )
@@ -99,10 +105,37 @@ def render(message: Outgoing, locale: str, *, need_private_chat: tuple[str, ...]
         return my_answers(f, locale)
     if isinstance(f, EarlierFacts):
         return earlier_offer(f)
+    if isinstance(f, RoughFacts):
+        return rough(f, locale)
     if isinstance(f, AgreementFacts):
         # Sent as files (agreement_files); as text only if sent like any other message.
         return markdown(f).text
     return round_text(f, message.kind, locale, need_private_chat)
+
+
+#: How the invitation to give rough values begins (the demo's flatmates look for it).
+ROUGH_INVITE_OPENING = "Optional, to help me ask fewer rounds of questions"
+
+
+def rough(f: RoughFacts, locale: str) -> str:
+    """Private: the invitation to give rough values, or what was noted."""
+    if f.values is None:
+        example = ", ".join(str(600 + 50 * (i % 3)) for i in range(len(f.rooms)))
+        return (
+            f"{ROUGH_INVITE_OPENING}: reply here with roughly what "
+            f"each room is worth to you a month, in this order: {', '.join(f.rooms)}. For "
+            f"example: {example}\n"
+            "Only the method sees them, only to choose the first questions; they never decide "
+            "anything and nobody else sees them. Skip this if you like."
+        )
+    listed = ", ".join(
+        f"{room} {money(v, f.currency, f.decimals, locale)}"
+        for room, v in zip(f.rooms, f.values, strict=True)
+    )
+    return (
+        f"Noted, privately: {listed}. They only steer the first questions; send new ones "
+        "to change them before the questions start."
+    )
 
 
 def earlier_offer(f: EarlierFacts) -> str:
@@ -171,12 +204,21 @@ def _price_lines(
     ]
 
 
+def _label(f: QuestionFacts) -> str:
+    """``Round 3 of about 7`` with the parallel search, ``Question 5`` with the walk."""
+    if f.round_number is None:
+        return f"Question {f.number_for_member}"
+    if f.expected_rounds is not None and f.expected_rounds > f.round_number:
+        return f"Round {f.round_number} of about {f.expected_rounds}"
+    return f"Round {f.round_number}"
+
+
 def question(f: QuestionFacts, locale: str, *, reminder: bool) -> str:
     head = "Reminder, this one is still open.\n" if reminder else ""
     offered = ", ".join(f.rooms[i] for i in f.choices)
     return "\n".join(
         [
-            f"{head}Question {f.number_for_member}: at these prices, which room would you take?",
+            f"{head}{_label(f)}: at these prices, which room would you take?",
             *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
             f"(You can pick: {offered}.)",
         ]
@@ -193,7 +235,7 @@ def withdrawn_question(f: QuestionFacts, locale: str) -> str:
     """A question asked ahead of time that the walk no longer needs: prices kept, no buttons."""
     return "\n".join(
         [
-            f"Question {f.number_for_member}: at these prices,",
+            f"{_label(f)}: at these prices,",
             *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
             WITHDRAWN_NOTE,
         ]
@@ -204,7 +246,7 @@ def answered_question(f: QuestionFacts, room: str, locale: str) -> str:
     """The question after it was answered: prices kept, buttons gone, choice shown."""
     return "\n".join(
         [
-            f"Question {f.number_for_member}: at these prices,",
+            f"{_label(f)}: at these prices,",
             *_price_lines(f.rooms, f.prices, f.currency, f.decimals, locale),
             f"you chose {room}. Saved.",
         ]
@@ -241,7 +283,9 @@ def division(f: DivisionFacts, kind: Kind, locale: str) -> str:
             head,
             *lines,
             f"Total {cash(total)}, which {check} the rent of {cash(f.rent)}.",
-            f"Each of you chose your room at prices within {cash(f.tolerance)} of these.",
+            "Each of you chose your room at exactly these prices."
+            if f.exact
+            else f"Each of you chose your room at prices within {cash(f.tolerance)} of these.",
             "",
             CAUTION,
         ]
@@ -290,6 +334,8 @@ def round_text(
         Kind.LAPSED: "The round ran out of time and is closed. Nothing was agreed.",
     }.get(kind, "Round update.")
     lines = [headline, *_settings_lines(f, locale)]
+    if kind is Kind.ASKING_STARTED:
+        lines += _what_to_expect(f)
     if f.reused:
         lines.append(f"Earlier answers reused for: {', '.join(f.reused)}.")
     if f.reused_by_default:
@@ -328,9 +374,33 @@ def _settings_lines(f: RoundFacts, locale: str) -> list[str]:
         lines.append(
             "Rooms may stay empty: with fewer members than rooms, the method decides which."
         )
+    if f.one_by_one:
+        lines.append("Questions go to one of you at a time.")
     lines.append(
         f"Members ({len(f.members)} of {len(f.rooms)}): {', '.join(f.members) or 'nobody yet'}."
     )
+    return lines
+
+
+def _what_to_expect(f: RoundFacts) -> list[str]:
+    """Said once, when the questions start: how it goes, how long, and the assumptions."""
+    if f.one_by_one:
+        how = "I ask one of you at a time, privately, until the prices settle."
+    elif f.expected_rounds is not None:
+        how = (
+            "Each round, all of you get one private question at the same time; expect "
+            f"about {f.expected_rounds} rounds."
+        )
+    else:
+        how = "Each round, all of you get one private question at the same time."
+    lines = [
+        how,
+        "I assume that you would take a free room rather than pay for another, that a room "
+        "never gets less attractive by getting cheaper, and, to choose good questions, that "
+        "money counts one-for-one for you.",
+    ]
+    if f.lapses_at is not None:
+        lines.append(f"If no split is agreed by {agreement_time(f.lapses_at)}, the round closes.")
     return lines
 
 
@@ -338,6 +408,17 @@ def board(status: StatusFacts, locale: str) -> str:
     """The group's progress line: counts and who is awaited, never anyone's answers."""
     r = status.round
     waiting = ", ".join(name for _, name in status.waiting_for) or "nobody"
+    if r.phase == "asking" and status.round_number is not None:
+        about = (
+            f" of about {status.expected_rounds}"
+            if status.expected_rounds and status.expected_rounds > status.round_number
+            else ""
+        )
+        return (
+            f"Private questions, round {status.round_number}{about}.\nRent "
+            f"{money(r.rent, r.currency, r.decimals, locale)}; rooms: {', '.join(r.rooms)}.\n"
+            f"Answers so far: {status.answered}. Waiting for: {waiting}."
+        )
     phase = {
         "asking": "Questions are going round privately.",
         "proposed": "A split is proposed; waiting for everyone to agree.",
@@ -363,6 +444,7 @@ COMMANDS: tuple[tuple[str, str], ...] = (
     ("status", "Where the round stands and who it is waiting for"),
     ("leave", "Leave the round before the questions start"),
     ("myanswers", "Get your own answers, privately"),
+    ("nextround", "Ask the next round now with the answers in (admin)"),
     ("cancelround", "Stop the open round (admin)"),
     ("adjust", "Change the settings before the questions start (admin)"),
     ("again", "Run the last agreed round again with the same people and settings"),

@@ -38,7 +38,7 @@ class WalkPicture:
 
 async def walk_picture(engine: Engine, round_id: int) -> WalkPicture | None:
     """Render the round's walk; None when the round has no walk yet."""
-    found = await engine.walk_of(round_id)
+    found = await engine.search_of(round_id)
     if found is None:
         return None
     walk, settings = found

@@ -58,13 +58,20 @@ def parse(argv: Sequence[str] | None) -> DemoOptions:
     )
     parser.add_argument("--out", type=Path, default=Path("out"), help="folder for results")
     parser.add_argument(
+        "--rough",
+        action="store_true",
+        help="the flatmates first give rough values per room (their own, give or take 10%%)",
+    )
+    parser.add_argument(
         "--play", metavar="NAME", help=f"answer for one flatmate ({', '.join(FLATMATES)})"
     )
     args = parser.parse_args(argv)
     names = FLATMATES[: args.rooms]
     if args.play is not None and args.play not in names:
         parser.error(f"--play takes one of {', '.join(names)} for {args.rooms} rooms")
-    return DemoOptions(args.rooms, args.seed, args.model, args.tolerance, args.out, args.play)
+    return DemoOptions(
+        args.rooms, args.seed, args.model, args.tolerance, args.out, args.play, rough=args.rough
+    )
 
 
 def euros(minor: int) -> str:

@@ -81,9 +81,24 @@ class SimulatedMind:
 
     tenant: Tenant
     floor: int = 0
+    #: Rough values to give when invited, as typed (None: skip the invitation).
+    rough: str | None = None
 
     async def pick_room(self, name: str, asked: Asked) -> int:
         return self.tenant.choose(asked.prices, sorted(asked.offered), self.floor)
 
     async def respond(self, name: str, proposed: Proposed) -> int | None:
         return None
+
+    async def rough_values(self, name: str, rooms: tuple[str, ...]) -> str | None:
+        return self.rough
+
+
+def rough_text(tenant: Tenant, seed: int, noise: float = 0.10) -> str | None:
+    """A flatmate's rough values as they might type them: their hidden values give or take
+    ``noise`` (seeded), in whole euros, separated by commas. None for tenants without values."""
+    values = getattr(tenant, "values", None)
+    if values is None:
+        return None
+    rng = random.Random(seed)
+    return ", ".join(str(round(v * rng.uniform(1 - noise, 1 + noise) / 100)) for v in values)

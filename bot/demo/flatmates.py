@@ -23,6 +23,7 @@ from urllib.parse import parse_qs, urlparse
 from babel.numbers import get_decimal_symbol, get_group_symbol, parse_decimal
 
 from bot.adapter.keyboards import button_label
+from bot.adapter.texts import ROUGH_INVITE_OPENING
 from bot.rounds.messages import Action, Choice
 from bot.sandbox.models import SimChat, SimMessage, SimUser
 from bot.sandbox.server import BotApiStandIn
@@ -123,6 +124,10 @@ class Mind(Protocol):
         """None to agree, else the room one would rather have at the proposed prices."""
         ...
 
+    async def rough_values(self, name: str, rooms: tuple[str, ...]) -> str | None:
+        """What to reply to the invitation to give rough values (None: skip it)."""
+        ...
+
 
 @dataclass
 class Flatmate:
@@ -221,6 +226,29 @@ class Household:
         payload = start_payload(links[0]) if links else None
         if not mate.user.opened_private_chat:
             self.standin.world.user_opens_private_chat(mate.user, payload)
+
+    async def give_rough_values(self, mate: Flatmate) -> bool:
+        """Answer the private invitation to give rough values, if the mind wants to."""
+        text = await mate.mind.rough_values(mate.name, self.rooms)
+        if text is None or not mate.user.opened_private_chat:
+            return False
+        world = self.standin.world
+        chat = world.private_chat_of(mate.user)
+
+        def invited() -> SimMessage | None:
+            return next(
+                (
+                    m
+                    for m in world.messages_in(chat)
+                    if m.from_bot and (m.text or "").startswith(ROUGH_INVITE_OPENING)
+                ),
+                None,
+            )
+
+        invitation = await self.standin.wait_for(invited, timeout=self.patience)
+        mate.seen.add((invitation.chat.id, invitation.message_id))
+        world.user_says(mate.user, chat, text)
+        return True
 
     async def wait_for_join_button(self) -> SimMessage:
         """The newest group message that offers the join button."""

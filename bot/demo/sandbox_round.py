@@ -32,14 +32,15 @@ from bot.demo.flat import (
     invent_tenants,
     rent_for,
     rooms_for,
+    rough_text,
 )
 from bot.demo.flatmates import Flatmate, Household, Mind
 from bot.demo.standin_settings import settings_for
 from bot.demo.terminal_player import TerminalPlayer
 from bot.rounds.messages import StatusFacts
 from bot.rounds.phases import Phase
+from bot.rounds.searches import AnySearch, load
 from bot.sandbox import BotApiStandIn, SimChat, SimMessage
-from solver import Walk
 from solver.money import format_minor
 from solver.simulate import Model, Tenant
 
@@ -63,6 +64,8 @@ class DemoOptions:
     play: str | None = None
     #: seconds anyone waits for the next thing to happen before giving up
     patience: float = 60.0
+    #: the flatmates give rough values per room (their hidden values give or take 10%)
+    rough: bool = False
 
 
 @dataclass(frozen=True, slots=True)
@@ -156,7 +159,20 @@ class _Round:
         for mate in self.household.flatmates:
             await self.household.join(mate, opened)
         await self._until(lambda s: len(s.round.members) == len(rooms), "everyone has joined")
+        given = [await self.household.give_rough_values(m) for m in self.household.flatmates]
+        await self._noted(sum(given))
         world.user_says(self.admin.user, self.group, "/begin")
+
+    async def _noted(self, count: int) -> None:
+        """Wait until the bot has noted ``count`` flatmates' rough values (privately)."""
+        world = self.standin.world
+
+        def noted() -> bool | None:
+            done = [m for m in world.messages if m.from_bot and (m.text or "").startswith("Noted")]
+            return True if len(done) >= count else None
+
+        if count:
+            await self.standin.wait_for(noted, timeout=self.options.patience)
 
     async def _until(self, done: _Check, what: str) -> StatusFacts:
         """Wait (on world changes) until the stored round satisfies ``done``."""
@@ -215,7 +231,13 @@ def _minds(
 ) -> tuple[dict[str, Tenant], dict[str, Mind]]:
     rooms = rooms_for(options.rooms)
     tenants = dict(zip(names, invent_tenants(rooms, options.model, options.seed), strict=True))
-    minds: dict[str, Mind] = {name: SimulatedMind(tenants[name]) for name in names}
+    minds: dict[str, Mind] = {
+        name: SimulatedMind(
+            tenants[name],
+            rough=rough_text(tenants[name], options.seed * 100 + i) if options.rough else None,
+        )
+        for i, name in enumerate(names)
+    }
     if options.play is not None:
         player = TerminalPlayer(console, tuple(r.name for r in rooms), CURRENCY, DECIMALS)
         if source is not None:
@@ -312,13 +334,13 @@ async def _let_bot_finish(standin: BotApiStandIn, grace: float = 1.0) -> None:
     await asyncio.sleep(grace)
 
 
-async def _stored_walk(runtime: Runtime, group_id: int) -> Walk | None:
-    """The walk of the group's latest round, as the bot stored it."""
+async def _stored_walk(runtime: Runtime, group_id: int) -> AnySearch | None:
+    """The search of the group's latest round, as the bot stored it."""
     async with runtime.store.transaction() as tx:
         record = await tx.latest_round(group_id)
     if record is None or record.walk_json is None:
         return None
-    return Walk.from_json(record.walk_json)
+    return load(record.id, record.walk_json)
 
 
 async def _questions_shown(runtime: Runtime, group_id: int) -> dict[int, int]:

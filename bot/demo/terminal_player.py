@@ -65,6 +65,15 @@ class TerminalPlayer:
                 return room
             self.console.print("That room is not on offer here; type one of the numbers shown.")
 
+    async def rough_values(self, name: str, rooms: tuple[str, ...]) -> str | None:
+        """Typed as a person would (any amount format); an empty line skips."""
+        typed = await self._line(
+            f"{name}, optional: roughly what is each room worth to you a month? Type the "
+            f"amounts in this order, separated by commas ({', '.join(rooms)}), or press Enter "
+            "to skip:"
+        )
+        return typed or None
+
     async def respond(self, name: str, proposed: Proposed) -> int | None:
         names = "\n".join(f"  {i + 1}) {room}" for i, room in enumerate(self.rooms))
         prompt = (

@@ -5,7 +5,7 @@ rooms are the same (matched by name, in any order) it still holds in the next ro
 their tastes changed. So each member who was in the previous round chooses, privately, to
 keep those answers or to answer afresh; whoever has not chosen when the questions start
 keeps them (the group is told). The solver reuses kept answers where the prices coincide or
-where monotonicity in money decides (:meth:`solver.Walk.start`, ``earlier=``).
+where monotonicity in money decides (:func:`solver.start`, ``earlier=``).
 """
 
 from __future__ import annotations
@@ -15,15 +15,15 @@ from dataclasses import dataclass
 
 from bot.rounds.buttons import issue_choice
 from bot.rounds.context import Context
-from bot.rounds.errors import StaleAction, StorageFault
+from bot.rounds.errors import StaleAction
 from bot.rounds.events import Actor
 from bot.rounds.messages import Action, EarlierFacts, Kind, Outgoing, Recipient
 from bot.rounds.permissions import require_member
 from bot.rounds.phases import Phase
 from bot.rounds.records import AuditKind, MemberRecord, RoundRecord
-from solver import InvalidState, Walk
+from bot.rounds.searches import load, records_of
 
-#: Walk records that are the member's own statements (not worked out by the walk).
+#: Records that are the member's own statements (not worked out by the search).
 OWN_SOURCES = ("asked", "objection", "earlier")
 Answers = list[tuple[tuple[int, ...], int]]
 
@@ -95,10 +95,7 @@ async def plan(ctx: Context, record: RoundRecord, members: Sequence[MemberRecord
     mapping = None if previous is None else room_map(previous.settings.rooms, record.settings.rooms)
     if previous is None or mapping is None or previous.walk_json is None:
         return Reuse({}, (), ())
-    try:
-        old_walk = Walk.from_json(previous.walk_json)
-    except InvalidState as exc:
-        raise StorageFault(f"round {previous.id}: {exc}") from exc
+    old_records = records_of(load(previous.id, previous.walk_json))
     stayed = {m.user_id for m in await ctx.tx.members(previous.id)}
     choices = await ctx.tx.earlier_choices(record.id)
     earlier: dict[str, Answers] = {}
@@ -109,7 +106,7 @@ async def plan(ctx: Context, record: RoundRecord, members: Sequence[MemberRecord
             continue
         said = [
             (tuple(r.prices[old] for old in mapping), mapping.index(r.room))
-            for r in old_walk.records
+            for r in old_records
             if r.member == str(member.user_id) and r.source in OWN_SOURCES
         ]
         earlier[str(member.user_id)] = list(dict.fromkeys(said))

@@ -1,11 +1,18 @@
-"""Driving the solver's walk: questions out, answers in, proposals, acceptances, objections.
+"""Driving a round's search: questions out, answers in, proposals, acceptances, objections.
 
 Every function runs inside the event's transaction. The order inside each is the order that
-keeps storage consistent: the walk moves, the walk JSON and the answer are written together,
-and only then are the messages that announce them queued.
+keeps storage consistent: the search moves, its JSON and the answer are written together, and
+only then are the messages that announce them queued. With the parallel search a whole round
+of questions goes out at once (one per member); with the search, one question at a time.
+
+The search's numerics (learning between rounds, linear programmes) run in a worker thread
+(:func:`asyncio.to_thread`), so a heavy step never stalls the event loop that answers other
+groups' button presses.
 """
 
 from __future__ import annotations
+
+import asyncio
 
 from bot.rounds.buttons import issue_choice
 from bot.rounds.context import Context
@@ -26,39 +33,40 @@ from bot.rounds.messages import (
     PromptFacts,
     Recipient,
 )
-from bot.rounds.permissions import require_member
+from bot.rounds.permissions import require_admin, require_member
 from bot.rounds.phases import Phase, Step, transition
 from bot.rounds.records import AuditKind, QuestionRecord, RoundRecord, TimerKind
-from solver import InvalidAnswer, Proposal, Question, Walk
+from bot.rounds.searches import AnySearch, expected_rounds, records_of, round_of
+from solver import InvalidAnswer, InvalidState, ParallelSearch, Proposal, Question
 from solver.problem import is_placeholder
 
 
-async def start_walk(ctx: Context, record: RoundRecord, walk: Walk) -> None:
-    """The first questions of a new walk (the start may already infer some answers)."""
-    ctx.walks[record.id] = (record.walk_rev, walk)
-    await log_inferred(ctx, record, walk, since=0)
-    await sync_walk(ctx, record, walk)
+async def start_search(ctx: Context, record: RoundRecord, search: AnySearch) -> None:
+    """The first questions of a new search (the start may already infer some answers)."""
+    ctx.searches[record.id] = (record.walk_rev, search)
+    await log_inferred(ctx, record, search, since=0)
+    await sync_search(ctx, record, search)
 
 
-async def sync_walk(ctx: Context, record: RoundRecord, walk: Walk) -> None:
-    """Save the walk, then ask any newly opened question or announce a new proposal."""
-    await ctx.save_walk(record.id, walk)
-    for question in walk.open_questions():
+async def sync_search(ctx: Context, record: RoundRecord, search: AnySearch) -> None:
+    """Save the search, then ask any newly opened question or announce a new proposal."""
+    await ctx.save_search(record.id, search)
+    for question in search.open_questions():
         if await ctx.tx.question(record.id, question.id) is None:
-            await ask(ctx, record, walk, question)
-    await withdraw_unneeded(ctx, record, walk)
-    proposal = walk.proposal()
+            await ask(ctx, record, search, question)
+    await withdraw_unneeded(ctx, record, search)
+    proposal = search.proposal()
     current = await ctx.tx.round_by_id(record.id)
     if proposal is not None and current is not None and current.phase is Phase.ASKING:
         await propose(ctx, current, proposal)
 
 
-async def withdraw_unneeded(ctx: Context, record: RoundRecord, walk: Walk) -> None:
-    """Close stored questions the walk no longer needs (a look-ahead guess that missed).
+async def withdraw_unneeded(ctx: Context, record: RoundRecord, search: AnySearch) -> None:
+    """Close stored questions the search no longer needs (a look-ahead guess that missed).
 
     The member's message loses its buttons, no reminder follows, and a late press is refused.
     """
-    still_open = {q.id for q in walk.open_questions()}
+    still_open = {q.id for q in search.open_questions()}
     for stored in await ctx.tx.questions(record.id):
         if stored.open and stored.qid not in still_open:
             await ctx.tx.withdraw_question(record.id, stored.qid, ctx.now)
@@ -68,7 +76,7 @@ async def withdraw_unneeded(ctx: Context, record: RoundRecord, walk: Walk) -> No
             ctx.send(Outgoing(Recipient.person(stored.user_id), Kind.WITHDRAWN, facts))
 
 
-async def ask(ctx: Context, record: RoundRecord, walk: Walk, question: Question) -> None:
+async def ask(ctx: Context, record: RoundRecord, search: AnySearch, question: Question) -> None:
     user_id = int(question.member)
     await ctx.tx.insert_question(
         QuestionRecord(
@@ -86,19 +94,19 @@ async def ask(ctx: Context, record: RoundRecord, walk: Walk, question: Question)
         record.id, TimerKind.REMINDER, user_id, question.id, ctx.now + ctx.config.reminder_after
     )
     await ctx.audit(record.id, AuditKind.QUESTION, user_id, qid=question.id, prices=question.prices)
-    ctx.send(await question_message(ctx, record, walk, question, Kind.QUESTION))
+    ctx.send(await question_message(ctx, record, search, question, Kind.QUESTION))
 
 
 async def question_message(
-    ctx: Context, record: RoundRecord, walk: Walk, question: Question, kind: Kind
+    ctx: Context, record: RoundRecord, search: AnySearch, question: Question, kind: Kind
 ) -> Outgoing:
     """A question (or its reminder) with one button per room on offer."""
     choices = [
         await issue_choice(ctx, record.id, Action.ANSWER, question.id, room)
         for room in question.choices
     ]
-    number = walk.questions_per_member()[question.member]
-    facts = question_facts(record, question, number)
+    number = search.questions_per_member()[question.member]
+    facts = question_facts(record, question, number, round_of(search), expected_rounds(search))
     return Outgoing(
         Recipient.person(int(question.member)),
         kind,
@@ -159,29 +167,54 @@ async def answer(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
         )
     if stored.withdrawn_at is not None:
         raise StaleAction(
-            "that question is no longer needed: the others' answers took the walk elsewhere; "
-            "nothing changed"
+            "that question is no longer needed: the others' answers led elsewhere; nothing changed"
         )
     if record.phase is not Phase.ASKING:
         raise StaleAction("this round is no longer asking questions; nothing changed")
-    walk = ctx.walk(record)
-    before = len(walk.records)
+    search = ctx.search(record)
+    before = len(records_of(search))
     try:
-        walk.answer(qid, room)
-    except InvalidAnswer as exc:
+        await asyncio.to_thread(search.answer, qid, room)
+    except (InvalidAnswer, InvalidState) as exc:
         raise StaleAction(f"that answer cannot be used: {exc}") from exc
     await ctx.tx.record_answer(record.id, qid, room, ctx.now)
     await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER], ref=qid)
     await ctx.audit(
         record.id, AuditKind.ANSWER, actor.user_id, qid=qid, prices=stored.prices, room=room
     )
-    await log_inferred(ctx, record, walk, since=before + 1)
-    ctx.send(_progress(record, walk, actor, room, qid))
-    await sync_walk(ctx, record, walk)
+    await log_inferred(ctx, record, search, since=before + 1)
+    ctx.send(_progress(record, search, actor, room, qid))
+    await sync_search(ctx, record, search)
 
 
-def _progress(record: RoundRecord, walk: Walk, actor: Actor, room: int, qid: str) -> Outgoing:
-    asked = [r for r in walk.records if r.source == "asked"]
+async def next_round(ctx: Context, record: RoundRecord, actor: Actor) -> None:
+    """The admin closes the current round with the answers in; the rest keep their questions.
+
+    The search learns from the answers it has and asks the next round of those who answered;
+    a member who has not answered keeps their open question (same prices, same buttons) and
+    gets the next one after answering it.
+    """
+    require_admin(record, actor, "move on to the next round")
+    if record.phase is not Phase.ASKING:
+        raise StaleAction(f"the round is {record.phase.in_words}; there is no round of questions")
+    search = ctx.search(record)
+    if round_of(search) is None:
+        raise StaleAction("questions go to one of you at a time in this round; nothing to close")
+    assert isinstance(search, ParallelSearch)
+    before = len(records_of(search))
+    try:
+        await asyncio.to_thread(search.close_round)
+    except InvalidState as exc:
+        raise StaleAction(str(exc)) from exc
+    await ctx.audit(record.id, AuditKind.ROUND_CLOSED, actor.user_id)
+    await log_inferred(ctx, record, search, since=before)
+    await sync_search(ctx, record, search)
+
+
+def _progress(
+    record: RoundRecord, search: AnySearch, actor: Actor, room: int, qid: str
+) -> Outgoing:
+    asked = [r for r in records_of(search) if r.source == "asked"]
     mine = sum(1 for r in asked if r.member == str(actor.user_id))
     facts = ProgressFacts(
         record.id, len(asked), mine, record.settings.rooms[room], question_ref(record.id, qid)
@@ -189,12 +222,12 @@ def _progress(record: RoundRecord, walk: Walk, actor: Actor, room: int, qid: str
     return Outgoing(Recipient.person(actor.user_id), Kind.PROGRESS, facts)
 
 
-async def log_inferred(ctx: Context, record: RoundRecord, walk: Walk, *, since: int) -> None:
-    """Audit answers the walk worked out without asking (boundary rule, repeated prices).
+async def log_inferred(ctx: Context, record: RoundRecord, search: AnySearch, *, since: int) -> None:
+    """Audit answers the search worked out without asking (boundary rule, repeated prices).
 
     Stand-ins for rooms that stay empty are not people, so their labels are not audited.
     """
-    for entry in walk.records[since:]:
+    for entry in records_of(search)[since:]:
         if entry.source in ("rule", "repeat") and not is_placeholder(entry.member):
             await ctx.audit(
                 record.id,
@@ -206,8 +239,8 @@ async def log_inferred(ctx: Context, record: RoundRecord, walk: Walk, *, since: 
             )
 
 
-def _current_proposal(record: RoundRecord, ref: str, walk: Walk) -> Proposal:
-    proposal = walk.proposal()
+def _current_proposal(record: RoundRecord, ref: str, search: AnySearch) -> Proposal:
+    proposal = search.proposal()
     if record.phase is not Phase.PROPOSED or ref != str(record.proposal_no) or proposal is None:
         raise StaleAction("that proposal has been replaced or closed; use the latest one")
     return proposal
@@ -217,7 +250,7 @@ async def accept(ctx: Context, record: RoundRecord, actor: Actor, ref: str) -> N
     """A member accepts the current proposal; the last acceptance settles the round."""
     members = await ctx.tx.members(record.id)
     me = require_member(members, actor)
-    proposal = _current_proposal(record, ref, ctx.walk(record))
+    proposal = _current_proposal(record, ref, ctx.search(record))
     if me.accepted_at is not None:
         raise StaleAction("you have already accepted this proposal; nothing changed")
     await ctx.tx.set_accepted(record.id, actor.user_id, ctx.now)
@@ -252,7 +285,7 @@ async def begin_objection(ctx: Context, record: RoundRecord, actor: Actor, ref: 
     """Step one of an objection: ask the member privately which room they would rather take."""
     members = await ctx.tx.members(record.id)
     me = require_member(members, actor)
-    proposal = _current_proposal(record, ref, ctx.walk(record))
+    proposal = _current_proposal(record, ref, ctx.search(record))
     if me.accepted_at is not None:
         raise StaleAction("you have already accepted this proposal; it can no longer be objected")
     own = proposal.assignment[str(actor.user_id)]
@@ -274,17 +307,17 @@ async def begin_objection(ctx: Context, record: RoundRecord, actor: Actor, ref: 
 async def object_with_room(
     ctx: Context, record: RoundRecord, actor: Actor, ref: str, room: int
 ) -> None:
-    """Step two: the member names the room; the walk disputes and asks everyone again."""
+    """Step two: the member names the room; the search takes it as a fact and asks again."""
     members = await ctx.tx.members(record.id)
     me = require_member(members, actor)
-    walk = ctx.walk(record)
-    proposal = _current_proposal(record, ref, walk)
+    search = ctx.search(record)
+    proposal = _current_proposal(record, ref, search)
     if me.accepted_at is not None:
         raise StaleAction("you have already accepted this proposal; it can no longer be objected")
-    before = len(walk.records)
+    before = len(records_of(search))
     try:
-        walk.dispute(str(actor.user_id), room)
-    except InvalidAnswer as exc:
+        await asyncio.to_thread(search.dispute, str(actor.user_id), room)
+    except (InvalidAnswer, InvalidState) as exc:
         raise StaleAction(f"that objection cannot be used: {exc}") from exc
     phase = transition(record.phase, Step.OBJECTION_UPHELD)
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
@@ -293,7 +326,7 @@ async def object_with_room(
     await ctx.audit(
         record.id, AuditKind.OBJECTION, actor.user_id, prices=proposal.prices, room=room
     )
-    await log_inferred(ctx, record, walk, since=before + 1)
+    await log_inferred(ctx, record, search, since=before + 1)
     current = await ctx.tx.round_by_id(record.id)
     assert current is not None
     ctx.send(
@@ -303,4 +336,4 @@ async def object_with_room(
             round_facts(current, await ctx.tx.members(record.id)),
         )
     )
-    await sync_walk(ctx, current, walk)
+    await sync_search(ctx, current, search)

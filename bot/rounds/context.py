@@ -1,8 +1,8 @@
 """What every handler works with during one event: the transaction, the time, the outbox.
 
-A :class:`Context` lives for exactly one transaction. Walks loaded during it are kept aside
-and only handed back to the engine's cache after the commit, so a refused or failed event
-never leaves a half-advanced walk in memory.
+A :class:`Context` lives for exactly one transaction. Searches loaded during it are kept
+aside and only handed back to the engine's cache after the commit, so a refused or failed
+event never leaves a half-advanced search in memory.
 """
 
 from __future__ import annotations
@@ -14,8 +14,8 @@ from typing import Any
 from bot.rounds.errors import StorageFault
 from bot.rounds.messages import Outgoing
 from bot.rounds.records import RoundRecord
+from bot.rounds.searches import AnySearch, load
 from bot.rounds.store_port import Transaction
-from solver import InvalidState, Walk
 
 DAY = 24 * 3600
 
@@ -37,7 +37,7 @@ class EngineConfig:
     look_ahead: bool = False
 
 
-WalkCache = dict[int, tuple[int, Walk]]
+SearchCache = dict[int, tuple[int, AnySearch]]
 
 
 @dataclass
@@ -47,9 +47,9 @@ class Context:
     tx: Transaction
     now: int
     config: EngineConfig
-    cache: WalkCache
+    cache: SearchCache
     out: list[Outgoing] = field(default_factory=list)
-    walks: WalkCache = field(default_factory=dict)
+    searches: SearchCache = field(default_factory=dict)
 
     def send(self, message: Outgoing) -> None:
         self.out.append(message)
@@ -57,25 +57,22 @@ class Context:
     async def audit(self, round_id: int, kind: str, user_id: int | None, **detail: Any) -> None:
         await self.tx.audit(round_id, self.now, kind, user_id, json.dumps(detail, sort_keys=True))
 
-    def walk(self, record: RoundRecord) -> Walk:
-        """The round's walk: from this event, from the engine's cache if current, else JSON."""
-        if record.id in self.walks:
-            return self.walks[record.id][1]
+    def search(self, record: RoundRecord) -> AnySearch:
+        """The round's search: from this event, from the engine's cache if current, else JSON."""
+        if record.id in self.searches:
+            return self.searches[record.id][1]
         cached = self.cache.pop(record.id, None)
         if cached is not None and cached[0] == record.walk_rev:
-            walk = cached[1]
+            search = cached[1]
         elif record.walk_json is None:
-            raise StorageFault(f"round {record.id} is {record.phase.value} but has no walk")
+            raise StorageFault(f"round {record.id} is {record.phase.value} but has no search")
         else:
-            try:
-                walk = Walk.from_json(record.walk_json)
-            except InvalidState as exc:
-                raise StorageFault(f"round {record.id}: {exc}") from exc
-        self.walks[record.id] = (record.walk_rev, walk)
-        return walk
+            search = load(record.id, record.walk_json)
+        self.searches[record.id] = (record.walk_rev, search)
+        return search
 
-    async def save_walk(self, round_id: int, walk: Walk) -> None:
-        """Store the walk's JSON in this transaction (the store bumps ``walk_rev``)."""
-        rev = self.walks[round_id][0] + 1 if round_id in self.walks else 1
-        self.walks[round_id] = (rev, walk)
-        await self.tx.update_round(round_id, at=self.now, walk_json=walk.to_json())
+    async def save_search(self, round_id: int, search: AnySearch) -> None:
+        """Store the search's JSON in this transaction (the store bumps ``walk_rev``)."""
+        rev = self.searches[round_id][0] + 1 if round_id in self.searches else 1
+        self.searches[round_id] = (rev, search)
+        await self.tx.update_round(round_id, at=self.now, walk_json=search.to_json())

@@ -10,7 +10,7 @@ The messages are also written to the outbox table in that same transaction, so t
 can send whatever a crash left unsent (:mod:`bot.adapter.delivery`). Refusals are not stored: they
 change nothing and are answered directly.
 
-The engine keeps no state of its own except a cache of walks keyed by their stored revision;
+The engine keeps no state of its own except a cache of searches keyed by their stored revision;
 an engine built afresh on the same database continues exactly where the old one stopped.
 """
 
@@ -18,9 +18,9 @@ from __future__ import annotations
 
 import json
 
-from bot.rounds import answer_reuse, asking, deadlines, lifecycle
+from bot.rounds import answer_reuse, asking, deadlines, lifecycle, rough_values
 from bot.rounds.clock import Clock
-from bot.rounds.context import Context, EngineConfig, WalkCache
+from bot.rounds.context import Context, EngineConfig, SearchCache
 from bot.rounds.errors import NotAllowed, Refusal, StaleAction
 from bot.rounds.events import (
     Actor,
@@ -31,9 +31,11 @@ from bot.rounds.events import (
     Join,
     Leave,
     MoveGroup,
+    NextRound,
     OpenJoining,
     Press,
     Rerun,
+    RoughValues,
     ShowMyAnswers,
     Tick,
 )
@@ -54,9 +56,9 @@ from bot.rounds.permissions import require_member
 from bot.rounds.records import OWN_ANSWER_KINDS, TimerRecord
 from bot.rounds.retrying import retry_transient
 from bot.rounds.round_settings import RoundSettings
+from bot.rounds.searches import AnySearch
 from bot.rounds.status import status_of
 from bot.rounds.store_port import Store
-from solver import Walk
 
 
 class Engine:
@@ -66,7 +68,7 @@ class Engine:
         self._store = store
         self._clock = clock
         self._config = config
-        self._walks: WalkCache = {}
+        self._searches: SearchCache = {}
 
     async def handle(self, event: Event) -> list[Outgoing]:
         """Apply ``event`` once; the returned messages are already backed by committed state.
@@ -82,13 +84,13 @@ class Engine:
             async with self._store.transaction() as tx:
                 if await tx.seen_event(event.key):
                     return []
-                ctx = Context(tx, now, self._config, self._walks)
+                ctx = Context(tx, now, self._config, self._searches)
                 await _dispatch(ctx, event)
                 await _store_outgoing(ctx, event.key)
                 await tx.mark_event(event.key, now)
         except Refusal as refusal:
             return [_refusal_message(event, refusal)]
-        self._walks.update(ctx.walks)
+        self._searches.update(ctx.searches)
         return ctx.out
 
     async def due_timers(self, now: int) -> list[TimerRecord]:
@@ -101,7 +103,7 @@ class Engine:
     ) -> StatusFacts | None:
         """The group's latest round (or round ``round_id``) with its progress; None if none."""
         async with self._store.transaction() as tx:
-            ctx = Context(tx, self._clock(), self._config, self._walks)
+            ctx = Context(tx, self._clock(), self._config, self._searches)
             if round_id is not None:
                 record = await tx.round_by_id(round_id)
             elif group_id is not None:
@@ -109,34 +111,34 @@ class Engine:
             else:
                 raise ValueError("status() needs group_id or round_id")
             result = None if record is None else await status_of(ctx, record)
-        self._walks.update(ctx.walks)
+        self._searches.update(ctx.searches)
         return result
 
     async def history(self, group_id: int) -> list[AgreementFacts]:
         """The group's settled rounds as agreements, oldest first (read only)."""
         async with self._store.transaction() as tx:
-            ctx = Context(tx, self._clock(), self._config, self._walks)
+            ctx = Context(tx, self._clock(), self._config, self._searches)
             found = []
             for record in await tx.settled_rounds(group_id):
-                proposal = ctx.walk(record).proposal()
+                proposal = ctx.search(record).proposal()
                 if proposal is not None:
                     found.append(agreement_facts(record, await tx.members(record.id), proposal))
         return found
 
-    async def walk_of(self, round_id: int) -> tuple[Walk, RoundSettings] | None:
-        """The round's walk and settings (read only; from the cache when current), or None.
+    async def search_of(self, round_id: int) -> tuple[AnySearch, RoundSettings] | None:
+        """The round's search and settings (read only; from the cache when current), or None.
 
         For pictures of how the prices moved: the adapter asks the engine rather than parsing
-        stored walks itself.
+        stored searches itself.
         """
         async with self._store.transaction() as tx:
             record = await tx.round_by_id(round_id)
             if record is None or record.walk_json is None:
                 return None
-            ctx = Context(tx, self._clock(), self._config, self._walks)
-            walk = ctx.walk(record)
-        self._walks.update(ctx.walks)
-        return walk, record.settings
+            ctx = Context(tx, self._clock(), self._config, self._searches)
+            search = ctx.search(record)
+        self._searches.update(ctx.searches)
+        return search, record.settings
 
     async def pending_timers(self) -> list[TimerRecord]:
         """Every timer still to fire; the adapter rebuilds its job queue from this at start-up."""
@@ -157,6 +159,12 @@ async def _dispatch(ctx: Context, event: Event) -> None:
         await lifecycle.begin_asking(ctx, event.group_id, event.actor)
     elif isinstance(event, Cancel):
         await lifecycle.cancel(ctx, event.group_id, event.actor)
+    elif isinstance(event, RoughValues):
+        await rough_values.take(ctx, event)
+    elif isinstance(event, NextRound):
+        await asking.next_round(
+            ctx, await lifecycle.open_round_of(ctx, event.group_id), event.actor
+        )
     elif isinstance(event, Rerun):
         await lifecycle.rerun(ctx, event.group_id, event.actor, event.keep_members)
     elif isinstance(event, Press):

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from bot.rounds.setup_input import SetupInput
+from bot.rounds.setup_input import SetupInput, TypedAmount
 
 
 @dataclass(frozen=True, slots=True)
@@ -84,6 +84,27 @@ class Press:
 
 
 @dataclass(frozen=True, slots=True)
+class RoughValues:
+    """A member, privately, says roughly what each room is worth to them a month.
+
+    ``amounts`` were parsed where they arrived (in room order); ``None`` clears them.
+    """
+
+    key: str
+    actor: Actor
+    amounts: tuple[TypedAmount, ...] | None
+
+
+@dataclass(frozen=True, slots=True)
+class NextRound:
+    """The admin moves on with the answers in: whoever has not answered keeps their question."""
+
+    key: str
+    group_id: int
+    actor: Actor
+
+
+@dataclass(frozen=True, slots=True)
 class Cancel:
     """The admin (or a chat administrator) stops the open round."""
 
@@ -140,6 +161,8 @@ Event = (
     | BeginAsking
     | Press
     | Cancel
+    | NextRound
+    | RoughValues
     | Rerun
     | ShowMyAnswers
     | MoveGroup

@@ -13,7 +13,8 @@ from typing import Any
 
 from bot.rounds.phases import OPEN_PHASES, Phase
 from bot.rounds.round_settings import RoundSettings
-from solver import BrokenInvariant, Walk
+from bot.rounds.searches import AnySearch, load, records_of
+from solver import BrokenInvariant
 
 Dump = dict[str, list[tuple[Any, ...]]]
 
@@ -50,7 +51,7 @@ def _check_round(
         len(members) == rooms or settings.fewest_members <= len(members) < rooms,
         f"round {round_id} asks with {len(members)} of {rooms}",
     )
-    walk = Walk.from_json(row[5])
+    walk = load(round_id, row[5])
     room_rent = settings.room_rent(len(members))
     # With empty rooms the question prices list every room and need not add up to the rent.
     _check_questions(round_id, walk, questions, room_rent if len(members) == rooms else None)
@@ -73,33 +74,29 @@ def _check_round(
 
 
 def _check_questions(
-    round_id: int, walk: Walk, questions: list[tuple[Any, ...]], rent: int | None
+    round_id: int, search: AnySearch, questions: list[tuple[Any, ...]], rent: int | None
 ) -> None:
-    open_ids = {q.id for q in walk.open_questions()}
+    open_ids = {q.id for q in search.open_questions()}
     stored_open = {q[1] for q in questions if q[7] is None and q[9] is None}
     _require(
         stored_open <= open_ids,
-        f"round {round_id}: stored open questions {stored_open} not open in the walk {open_ids}",
+        f"round {round_id}: stored open questions {stored_open} not open in the search {open_ids}",
     )
-    asked = {r.seq: r for r in walk.records if r.source == "asked"}
     for q in questions:
         prices = json.loads(q[3])
         _require(
             rent is None or sum(prices) == rent, f"round {round_id} question {q[1]}: prices != rent"
         )
-        if q[7] is None:
-            continue
-        record = asked.get(int(q[1][1:]))
-        _require(record is not None, f"round {round_id}: answer {q[1]} missing from the walk")
-        assert record is not None
-        _require(
-            record.room == q[8] and str(q[2]) == record.member,
-            f"round {round_id}: stored answer {q[1]} differs from the walk's",
-        )
-    stored = {q[1] for q in questions if q[7] is not None}
+    # Columns of the questions table: round_id, qid, user_id, prices, choices,
+    # sent_message_id (no longer written), asked_at, answered_at, room, withdrawn_at.
+    # Every stored answer is an answer the search holds, and the other way round: who, at
+    # which prices, which room (a multiset: the same question may come back in a later round).
+    stored = Counter(
+        (str(q[2]), tuple(json.loads(q[3])), q[8]) for q in questions if q[7] is not None
+    )
+    held = Counter((r.member, r.prices, r.room) for r in records_of(search) if r.source == "asked")
     _require(
-        {f"q{seq}" for seq in asked} == stored,
-        f"round {round_id}: the walk's answers and the stored answers differ",
+        stored == held, f"round {round_id}: the search's answers and the stored answers differ"
     )
 
 

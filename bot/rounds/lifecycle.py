@@ -6,10 +6,11 @@ Each validates everything before writing anything, so a refusal leaves storage a
 
 from __future__ import annotations
 
+import asyncio
 from dataclasses import replace
 
-from bot.rounds import answer_reuse
-from bot.rounds.asking import start_walk
+from bot.rounds import answer_reuse, rough_values
+from bot.rounds.asking import start_search
 from bot.rounds.buttons import issue_choice
 from bot.rounds.context import Context
 from bot.rounds.errors import IllegalMove, InvalidSetup, NotAllowed, Refusal, RefusalCode
@@ -20,7 +21,8 @@ from bot.rounds.permissions import require_admin, require_member
 from bot.rounds.phases import RERUN_FROM, Phase, Step, transition
 from bot.rounds.records import AuditKind, RoundRecord, TimerKind
 from bot.rounds.round_settings import RoundSettings, amend_settings, build_settings
-from solver import InvalidAnswer, InvalidProblem, Options, Walk
+from bot.rounds.searches import expected_rounds
+from solver import InvalidAnswer, InvalidProblem, Options, start
 
 
 async def open_round_of(ctx: Context, group_id: int) -> RoundRecord:
@@ -115,6 +117,7 @@ async def join(ctx: Context, record: RoundRecord, actor: Actor) -> None:
     await ctx.audit(record.id, AuditKind.JOINED, actor.user_id, name=name)
     await announce(ctx, record.id, Kind.MEMBER_JOINED)
     await answer_reuse.offer(ctx, record, actor.user_id)
+    await rough_values.invite(ctx, record, actor.user_id)
 
 
 async def leave(ctx: Context, group_id: int, actor: Actor) -> None:
@@ -138,8 +141,17 @@ async def begin_asking(ctx: Context, group_id: int, actor: Actor) -> None:
     reuse = await answer_reuse.plan(ctx, record, members)
     try:
         problem = record.settings.problem([str(m.user_id) for m in members])
-        options = Options(look_ahead=ctx.config.look_ahead)
-        walk = Walk.start(problem, options=options, earlier=reuse.earlier)
+        method = record.settings.method
+        options = Options(look_ahead=ctx.config.look_ahead) if method == "walk" else None
+        rough = rough_values.matrix(record, members) if method == "parallel" else None
+        search = await asyncio.to_thread(
+            start,
+            problem,
+            method=method,
+            options=options,
+            earlier=reuse.earlier,
+            rough_values=rough,
+        )
     except (InvalidProblem, InvalidAnswer) as exc:
         raise InvalidSetup(f"the questions cannot start with these settings: {exc}") from exc
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
@@ -160,9 +172,11 @@ async def begin_asking(ctx: Context, group_id: int, actor: Actor) -> None:
         round_facts(current, members),
         reused=tuple(names[u] for u in (*reuse.chosen, *reuse.by_default)),
         reused_by_default=tuple(names[u] for u in reuse.by_default),
+        expected_rounds=expected_rounds(search),
+        lapses_at=current.created_at + ctx.config.lapse_after,
     )
     ctx.send(Outgoing(Recipient.group(record.group_id), Kind.ASKING_STARTED, facts))
-    await start_walk(ctx, current, walk)
+    await start_search(ctx, current, search)
 
 
 def _check_headcount(settings: RoundSettings, members: int) -> None:

@@ -40,10 +40,17 @@ def round_facts(record: RoundRecord, members: list[MemberRecord]) -> RoundFacts:
         per_person=s.per_person,
         common=s.common,
         empty_allowed=s.empty_allowed,
+        one_by_one=s.method == "walk",
     )
 
 
-def question_facts(record: RoundRecord, question: Question, number: int) -> QuestionFacts:
+def question_facts(
+    record: RoundRecord,
+    question: Question,
+    number: int,
+    round_number: int | None = None,
+    expected_rounds: int | None = None,
+) -> QuestionFacts:
     s = record.settings
     return QuestionFacts(
         round_id=record.id,
@@ -54,6 +61,8 @@ def question_facts(record: RoundRecord, question: Question, number: int) -> Ques
         decimals=s.decimals,
         choices=question.choices,
         number_for_member=number,
+        round_number=round_number,
+        expected_rounds=expected_rounds,
     )
 
 
@@ -102,6 +111,7 @@ def division_facts(
         shared_total=sum(line.shared for line in lines),
         empty_rooms=tuple(s.rooms[r] for r in proposal.empty_rooms),
         empty_prices=tuple(proposal.prices[r] for r in proposal.empty_rooms),
+        exact=all(e.prices == proposal.prices for e in proposal.evidence),
     )
 
 

@@ -54,6 +54,8 @@ class Kind(Enum):
     EARLIER_OFFER = "earlier-offer"
     EARLIER_CHOSEN = "earlier-chosen"
     AGREEMENT = "agreement"
+    ROUGH_INVITE = "rough-invite"
+    ROUGH_NOTED = "rough-noted"
 
 
 class Action(Enum):
@@ -99,6 +101,11 @@ class RoundFacts:
     #: Asking started: whose earlier answers are reused, and who got that by default.
     reused: tuple[str, ...] = ()
     reused_by_default: tuple[str, ...] = ()
+    #: Questions go one at a time (the walk) rather than to everyone at once, round by round.
+    one_by_one: bool = False
+    #: When asking starts: about how many rounds to expect, and when the round lapses.
+    expected_rounds: int | None = None
+    lapses_at: int | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -113,6 +120,10 @@ class QuestionFacts:
     decimals: int
     choices: tuple[int, ...]
     number_for_member: int
+    #: With the parallel search: the round this question belongs to, and about how many
+    #: rounds the search expects in all (None when questions go one at a time).
+    round_number: int | None = None
+    expected_rounds: int | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -155,6 +166,8 @@ class DivisionFacts:
     shared_total: int = 0
     empty_rooms: tuple[str, ...] = ()
     empty_prices: tuple[int, ...] = ()
+    #: Every member chose their room at exactly these prices (the strongest evidence).
+    exact: bool = False
 
 
 @dataclass(frozen=True, slots=True)
@@ -251,6 +264,17 @@ class AgreementFacts:
 
 
 @dataclass(frozen=True, slots=True)
+class RoughFacts:
+    """The invitation to give rough values (``values`` None), or the values as noted."""
+
+    round_id: int
+    rooms: tuple[str, ...]
+    currency: str
+    decimals: int
+    values: tuple[int, ...] | None = None
+
+
+@dataclass(frozen=True, slots=True)
 class RefusalFacts:
     """Why a request was refused and what to do instead."""
 
@@ -269,6 +293,7 @@ Facts = (
     | RefusalFacts
     | EarlierFacts
     | AgreementFacts
+    | RoughFacts
 )
 
 
@@ -290,3 +315,5 @@ class StatusFacts:
     round: RoundFacts
     answered: int
     waiting_for: tuple[tuple[int, str], ...]
+    round_number: int | None = None
+    expected_rounds: int | None = None

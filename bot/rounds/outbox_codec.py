@@ -30,6 +30,7 @@ from bot.rounds.messages import (
     QuestionFacts,
     Recipient,
     RefusalFacts,
+    RoughFacts,
     RoundFacts,
     WaitingFacts,
 )
@@ -37,6 +38,7 @@ from bot.rounds.messages import (
 _FACT_TYPES: dict[str, type[Any]] = {
     cls.__name__: cls
     for cls in (
+        RoughFacts,
         RoundFacts,
         QuestionFacts,
         ProgressFacts,
@@ -47,6 +49,7 @@ _FACT_TYPES: dict[str, type[Any]] = {
         RefusalFacts,
         EarlierFacts,
         AgreementFacts,
+        RoughFacts,
     )
 }
 #: Facts whose ``lines`` field holds nested records.

@@ -40,6 +40,9 @@ class MemberRecord:
     display_name: str
     joined_at: int
     accepted_at: int | None
+    #: What the member privately said each room is roughly worth to them a month (minor
+    #: units, in room order), or None. Only steers the first questions; never an answer.
+    rough_values: tuple[int, ...] | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -121,6 +124,8 @@ class AuditKind:
     REMINDED = "reminded"
     HOLD_UP = "hold-up"
     EARLIER_CHOICE = "earlier-choice"
+    ROUND_CLOSED = "round-closed"
+    ROUGH_VALUES = "rough-values"
 
 
 #: The audit kinds that are a member's own answers (shown to that member only).

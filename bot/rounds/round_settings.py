@@ -18,6 +18,7 @@ from typing import Any
 
 from bot.rounds.errors import InvalidSetup
 from bot.rounds.money_text import shown
+from bot.rounds.searches import Method
 from bot.rounds.setup_input import RentInput, SetupInput, TypedAmount, currency_decimals
 from solver import InvalidProblem, Problem, split_exactly
 from solver.problem import MAX_NAME_LENGTH, MAX_ROOMS, MIN_ROOMS, MIN_TOLERANCE
@@ -57,6 +58,9 @@ class RoundSettings:
     per_person: int = 0
     common: tuple[str, ...] = ()
     empty_allowed: bool = False
+    #: How the questions go: "parallel" (everyone at once, round by round; the default) or
+    #: "walk" (one question at a time, the classical path-following walk).
+    method: Method = "parallel"
 
     @property
     def decimals(self) -> int:
@@ -106,6 +110,8 @@ class RoundSettings:
             data["common"] = list(self.common)
         if self.empty_allowed:
             data["empty_allowed"] = True
+        if self.method != "parallel":
+            data["method"] = self.method
         return json.dumps(data, separators=(",", ":"))
 
     @classmethod
@@ -121,6 +127,7 @@ class RoundSettings:
             per_person=int(data.get("per_person", 0)),
             common=tuple(data.get("common", ())),
             empty_allowed=bool(data.get("empty_allowed", False)),
+            method="walk" if data.get("method") == "walk" else "parallel",
         )
 
 
@@ -220,6 +227,8 @@ def _with_options(settings: RoundSettings, setup: SetupInput) -> RoundSettings:
         updated = mark_common(updated, setup.common)
     if setup.empty_allowed is not None:
         updated = replace(updated, empty_allowed=setup.empty_allowed)
+    if setup.one_by_one is not None:
+        updated = replace(updated, method="walk" if setup.one_by_one else "parallel")
     return updated
 
 

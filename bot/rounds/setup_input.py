@@ -40,11 +40,19 @@ from babel.numbers import (
 from bot.rounds.errors import InvalidSetup
 
 #: Options that may follow the rent and the rooms, each as ``name value``.
-SETUP_OPTIONS = ("tolerance", "floor", "shared", "per person", "not let", "empty rooms")
+SETUP_OPTIONS = (
+    "tolerance",
+    "floor",
+    "shared",
+    "per person",
+    "not let",
+    "empty rooms",
+    "one by one",
+)
 #: What ``/adjust`` may change: the options, and the rent and the rooms themselves.
 ADJUST_OPTIONS = ("rent", "rooms", *SETUP_OPTIONS)
 _OPTION = re.compile(
-    r"^(?P<name>tolerance|floor|shared|per person|not let|empty rooms|rent|rooms)"
+    r"^(?P<name>tolerance|floor|shared|per person|not let|empty rooms|one by one|rent|rooms)"
     r"\s*[:=]?\s*(?P<value>.+)$",
     re.IGNORECASE,
 )
@@ -119,6 +127,8 @@ class SetupInput:
     per_person: TypedAmount | None = None
     common: tuple[str, ...] | None = None
     empty_allowed: bool | None = None
+    #: Ask one question at a time (the walk) instead of everyone at once, round by round.
+    one_by_one: bool | None = None
     #: The group's locale: how its amounts were read, and how refusals will show amounts.
     locale: str = "en"
 
@@ -134,6 +144,7 @@ class SetupInput:
         per_person: str | None = None,
         common: Sequence[str] | str | None = None,
         empty_allowed: str | bool | None = None,
+        one_by_one: str | bool | None = None,
         locale: str = "en",
     ) -> SetupInput:
         """Parse each piece that was given, as typed in a group with this ``locale``."""
@@ -141,7 +152,9 @@ class SetupInput:
         def amount(text: str | None, what: str) -> TypedAmount | None:
             return None if text is None else parse_money(text, what=what, locale=locale)
 
-        switch = empty_allowed
+        def switch(value: str | bool | None, what: str) -> bool | None:
+            return parse_switch(value, what=what) if isinstance(value, str) else value
+
         return cls(
             rent=None if rent is None else parse_rent(rent, locale),
             rooms=None if rooms is None else split_names(rooms),
@@ -150,9 +163,8 @@ class SetupInput:
             shared=amount(shared, "shared part"),
             per_person=amount(per_person, "amount per person"),
             common=None if common is None else split_names(common),
-            empty_allowed=parse_switch(switch, what="empty rooms")
-            if isinstance(switch, str)
-            else switch,
+            empty_allowed=switch(empty_allowed, "empty rooms"),
+            one_by_one=switch(one_by_one, "one by one"),
             locale=locale,
         )
 
@@ -168,6 +180,7 @@ class SetupInput:
             per_person=options.get("per person"),
             common=options.get("not let"),
             empty_allowed=options.get("empty rooms"),
+            one_by_one=options.get("one by one"),
             locale=locale,
         )
 
@@ -328,6 +341,24 @@ def parse_amount(text: str, *, what: str, locale: str = "en") -> TypedAmount:
     raise InvalidSetup(
         f"the {what} {text.strip()!r} is not a number I can read; type it like 1850.50 or 1,850.50"
     )
+
+
+#: Between amounts in a list: a semicolon, a new line, a slash, or a comma before a space (a
+#: comma right between digits is part of a number: 1,200 or 12,5).
+_LIST_SEPARATOR = re.compile(r";|\n|/|,\s+")
+_SKIP_WORDS = frozenset({"skip", "none", "no", "-", "clear"})
+
+
+def parse_amount_list(
+    text: str, *, what: str, locale: str = "en"
+) -> tuple[TypedAmount, ...] | None:
+    """``700, 450, 600`` -> three amounts; ``skip`` -> None (take back what was given)."""
+    if text.strip().casefold() in _SKIP_WORDS:
+        return None
+    pieces = [piece.strip() for piece in _LIST_SEPARATOR.split(text.strip())]
+    if not all(pieces):
+        raise InvalidSetup(f"separate the {what}s with commas, e.g. 700, 450, 600")
+    return tuple(parse_money(piece, what=what, locale=locale) for piece in pieces)
 
 
 def parse_switch(text: str, *, what: str) -> bool:

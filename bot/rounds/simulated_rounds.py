@@ -69,9 +69,12 @@ class Rehearsal:
     def key(self) -> str:
         return f"{self.key_prefix}-{self.group_id}-{self.events}"
 
-    async def set_up(self, rent: str, rooms: Sequence[str]) -> list[Outgoing]:
-        """Draft, open, let every member join and start the questions."""
-        setup = SetupInput.parse(rent, rooms)
+    async def set_up(
+        self, rent: str, rooms: Sequence[str], *, one_by_one: bool = False
+    ) -> list[Outgoing]:
+        """Draft, open, let every member join and start the questions (everyone at once,
+        round by round, unless ``one_by_one`` asks for the walk)."""
+        setup = SetupInput.parse(rent, rooms, one_by_one=one_by_one)
         out = await self.send(Configure(self.key(), self.group_id, self.admin, setup))
         out += await self.send(OpenJoining(self.key(), self.group_id, self.admin))
         for member in self.members:

@@ -11,6 +11,7 @@ from bot.rounds.message_facts import round_facts
 from bot.rounds.messages import StatusFacts
 from bot.rounds.phases import Phase
 from bot.rounds.records import RoundRecord
+from bot.rounds.searches import expected_rounds, round_of
 
 
 async def status_of(ctx: Context, record: RoundRecord) -> StatusFacts:
@@ -19,8 +20,11 @@ async def status_of(ctx: Context, record: RoundRecord) -> StatusFacts:
     names = {m.user_id: m.display_name for m in members}
     answered = sum(1 for q in await ctx.tx.questions(record.id) if q.answered_at is not None)
     waiting: list[int] = []
+    round_number = expected = None
     if record.phase is Phase.ASKING:
-        for question in ctx.walk(record).open_questions():
+        search = ctx.search(record)
+        round_number, expected = round_of(search), expected_rounds(search)
+        for question in search.open_questions():
             if int(question.member) not in waiting:
                 waiting.append(int(question.member))
     elif record.phase is Phase.PROPOSED:
@@ -29,4 +33,6 @@ async def status_of(ctx: Context, record: RoundRecord) -> StatusFacts:
         round_facts(record, members),
         answered,
         tuple((user_id, names.get(user_id, "?")) for user_id in waiting),
+        round_number,
+        expected,
     )

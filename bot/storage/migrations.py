@@ -164,6 +164,11 @@ MIGRATIONS: tuple[Migration, ...] = (
         "outbox claims, so that several bot processes never send the same message twice",
         ("ALTER TABLE outbox ADD COLUMN claimed_at INTEGER",),
     ),
+    Migration(
+        6,
+        "members' optional rough values per room (a soft start for the rounds of questions)",
+        ("ALTER TABLE members ADD COLUMN rough_values TEXT",),
+    ),
 )
 
 

@@ -41,6 +41,7 @@ _ROUND_COLUMNS = (
     "id, group_id, admin_id, phase, settings, walk, walk_rev, proposal_no, previous_round, "
     "created_at, updated_at"
 )
+_ROUND_COLUMNS_OF_R = ", ".join(f"r.{c.strip()}" for c in _ROUND_COLUMNS.split(","))
 _QUESTION_COLUMNS = (
     "round_id, qid, user_id, prices, choices, asked_at, answered_at, room, withdrawn_at"
 )
@@ -160,11 +161,38 @@ class SqlTransaction(LaterQueries):
 
     async def members(self, round_id: int) -> list[MemberRecord]:
         rows = await self._all(
-            "SELECT round_id, user_id, display_name, joined_at, accepted_at FROM members "
-            "WHERE round_id = ? ORDER BY joined_at, user_id",
+            "SELECT round_id, user_id, display_name, joined_at, accepted_at, rough_values "
+            "FROM members WHERE round_id = ? ORDER BY joined_at, user_id",
             (round_id,),
         )
-        return [MemberRecord(*row) for row in rows]
+        return [
+            MemberRecord(
+                row[0],
+                row[1],
+                row[2],
+                row[3],
+                row[4],
+                tuple(json.loads(row[5])) if row[5] is not None else None,
+            )
+            for row in rows
+        ]
+
+    async def set_rough_values(
+        self, round_id: int, user_id: int, values: tuple[int, ...] | None
+    ) -> None:
+        await self._run(
+            "UPDATE members SET rough_values = ? WHERE round_id = ? AND user_id = ?",
+            (json.dumps(list(values)) if values is not None else None, round_id, user_id),
+        )
+
+    async def gathering_rounds_of(self, user_id: int) -> list[RoundRecord]:
+        """Rounds still being set up or collecting members that ``user_id`` has joined."""
+        rows = await self._all(
+            f"SELECT {_ROUND_COLUMNS_OF_R} FROM rounds r JOIN members m ON m.round_id = r.id "
+            "WHERE m.user_id = ? AND r.phase IN ('drafting', 'gathering') ORDER BY r.id",
+            (user_id,),
+        )
+        return [record for record in map(_round, rows) if record is not None]
 
     async def add_member(self, round_id: int, user_id: int, name: str, at: int) -> None:
         await self._run(

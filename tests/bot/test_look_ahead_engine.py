@@ -22,7 +22,8 @@ async def test_parallel_questions_and_withdrawn_ones_are_refused_unchanged(
     engine = Engine(store, clock=clock, config=EngineConfig(SECRET, look_ahead=True))
     members = people(4)
     play = Rehearsal(engine, GROUP, members[0], members, tenants_for(members, 7))
-    waiting = deque(await play.set_up(RENT_TEXT, ROOMS[:4]))
+    # Look-ahead belongs to the walk (one question at a time).
+    waiting = deque(await play.set_up(RENT_TEXT, ROOMS[:4], one_by_one=True))
     most_open = 0
     withdrawn: list[Outgoing] = []
     while waiting and not withdrawn:  # answer in arrival order until a guess is withdrawn

@@ -22,8 +22,8 @@ from bot.adapter.pictures import picture_data, render_png
 from bot.adapter.walk_picture import CAPTION_LIMIT
 from bot.demo.cli import main
 from bot.demo.sandbox_round import DemoOptions, DemoResult, run_round
+from bot.rounds.searches import AnySearch, load, records_of
 from bot.storage.sqlite import SqliteStore
-from solver import Walk
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG spec (ISO/IEC 15948) section 5.2
 
@@ -32,7 +32,9 @@ def euros(minor: int) -> str:
     return str(format_currency(Decimal(minor).scaleb(-2), "EUR", locale="en"))
 
 
-async def stored(database: Path) -> tuple[dict[str, int], list[int], Walk, set[tuple[int, ...]]]:
+async def stored(
+    database: Path,
+) -> tuple[dict[str, int], list[int], AnySearch, set[tuple[int, ...]]]:
     """From the bot's own file: the agreement (by member name), the walk, the asked prices."""
     store = await SqliteStore.open(database)
     try:
@@ -47,7 +49,7 @@ async def stored(database: Path) -> tuple[dict[str, int], list[int], Walk, set[t
         await store.close()
     assert record is not None and record.walk_json is not None
     assignment = {names[user]: room for user, room in detail["assignment"].items()}
-    return assignment, detail["prices"], Walk.from_json(record.walk_json), asked
+    return assignment, detail["prices"], load(record.id, record.walk_json), asked
 
 
 async def three_rooms(tmp_path: Path) -> tuple[DemoResult, str]:
@@ -70,7 +72,7 @@ async def test_demo_round_is_envy_free_by_the_flatmates_own_values(tmp_path: Pat
     # Every press answered a question the member was sent; questions asked ahead of time may
     # be withdrawn before anyone presses, or refused when pressed just after withdrawal.
     presses = chat_log.count("pressed [I'd take")
-    answered = len([r for r in walk.records if r.source == "asked"])
+    answered = len([r for r in records_of(walk) if r.source == "asked"])
     assert answered <= presses <= sum(result.asked.values())
     for name, room in assignment.items():
         assert f"• {name}: {result.rooms[room]}, {euros(prices[room])}" in chat_log
@@ -108,7 +110,7 @@ async def test_picture_is_sent_to_the_group_and_saved(tmp_path: Path) -> None:
     # path is plotted.
     plotted = {v.prices for v in data.visits if v.asked}
     assert plotted <= asked
-    assert {r.prices for r in walk.records if r.source == "asked" and r.vertex} <= plotted
+    assert {r.prices for r in records_of(walk) if r.source == "asked" and r.vertex} <= plotted
 
 
 def test_main_prints_summary_and_how_it_works(tmp_path: Path) -> None:

@@ -1,0 +1,49 @@
+"""The bot's view of a round's search: either method, loaded, saved and read the same way.
+
+A round asks with the parallel search by default (:class:`solver.ParallelSearch`: a whole
+round of questions at once, every member in parallel) or, as a per-round setting, with the
+walk (:class:`solver.Walk`: one question at a time). Both satisfy :class:`solver.Search`;
+this module adds what the bot needs beyond it: every answer the search holds (for progress
+counts, audits and answer reuse), the round number people are told, and the method's own
+estimate of how many rounds to expect. The stored column is still called ``walk`` (renaming
+it would need a migration for nothing).
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from bot.rounds.errors import StorageFault
+from solver import InvalidState, ParallelSearch, Walk, resume
+from solver.protocol import Record
+
+AnySearch = ParallelSearch | Walk
+Method = Literal["parallel", "walk"]
+METHODS: tuple[Method, ...] = ("parallel", "walk")
+
+
+def load(round_id: int, text: str) -> AnySearch:
+    """A stored search, continued exactly; a damaged one is a storage fault, not a refusal."""
+    try:
+        return resume(text)
+    except InvalidState as exc:
+        raise StorageFault(f"round {round_id}: {exc}") from exc
+
+
+def records_of(search: AnySearch) -> list[Record]:
+    """Every label the search holds, in order (after a hand-over, the walk's too)."""
+    return search.all_records() if isinstance(search, ParallelSearch) else list(search.records)
+
+
+def round_of(search: AnySearch) -> int | None:
+    """The round people are in (1-based); None when questions go one at a time."""
+    if isinstance(search, ParallelSearch) and search.walk is None:
+        return search.round_number
+    return None
+
+
+def expected_rounds(search: AnySearch) -> int | None:
+    """About how many rounds the search takes in all (its own estimate); None for the walk."""
+    if isinstance(search, ParallelSearch) and search.walk is None:
+        return search.expected_rounds()
+    return None
