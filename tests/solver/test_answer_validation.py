@@ -103,4 +103,3 @@ def test_only_offered_rooms_are_accepted(rooms: int, members: int, floor: int, m
     assert seen[f"every room{suffix}, look-ahead"] > 0
     if rooms == 5:  # five rooms also reach look-ahead questions offering only floor rooms
         assert seen[f"only floor rooms{suffix}, look-ahead"] > 0
-
