@@ -23,7 +23,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 from math import ceil
 
-from solver import Walk
+from solver import Problem, Walk
 from solver.money import split_exactly
 from solver.protocol import Evidence, Proposal
 
@@ -43,15 +43,14 @@ def grid_point(vertex: Sequence[int], mesh: int) -> Point:
     return tuple(Fraction(v) for v in x)
 
 
-def exact_prices(walk: Walk, x: Point, mesh: int) -> list[Fraction]:
-    problem = walk.problem
+def exact_prices(problem: Problem, x: Point, mesh: int) -> list[Fraction]:
     lift = Fraction(problem.empty_count, len(problem.members)) * min(x)
     return [problem.floor + Fraction(problem.budget, mesh) * (xi + lift) for xi in x]
 
 
 def proposal_prices(walk: Walk, x: Point, mesh: int, empty: Sequence[int]) -> tuple[int, ...]:
     problem = walk.problem
-    exact = exact_prices(walk, x, mesh)
+    exact = exact_prices(problem, x, mesh)
     let = [i for i in range(problem.size) if i not in empty]
     shortfall = (problem.rent - sum((exact[i] for i in let), Fraction(0))) / len(let)
     let_prices = split_exactly([exact[i] + shortfall for i in let], problem.rent)
