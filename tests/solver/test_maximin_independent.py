@@ -139,7 +139,7 @@ def test_maximin_split_matches_independent_formulations(
     values: Matrix, rent_per_room: int, floor: int
 ) -> None:
     n = len(values)
-    rent = rent_per_room * n
+    rent = (rent_per_room + max(floor, 0)) * n  # a valid round: the rent exceeds the floors
     best = _best_assignments(values)
     split = maximin_split(values, rent, floor)
     assert split.assignment in best  # welfare-maximising, checked by brute force
