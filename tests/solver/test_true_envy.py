@@ -15,8 +15,12 @@ promise the tolerance, so each test asserts what does follow, and says why:
 * concave in money: within the bound plus ``|P[r] - q[r]| * |P[j] - P[r]| / (wealth - P[r])``,
   because a unit of money is worth more the less is left (derived below);
 * any model with a floor that binds: a member the boundary rule sends to a floor-priced room
-  against their values (Su's "miserly" assumption) is not covered; when the floor rules out
-  every envy-free division (checked with scipy's HiGHS LP) someone must envy.
+  against their values (Su's "miserly" assumption: nobody would rather pay for a room than
+  take a free one) is not covered; when the floor rules out every division envy-free within
+  the tolerance (checked with scipy's HiGHS LP) such a member must exist. The converse does
+  not hold: hypothesis found two-room tastes (values (19119, 2614) and (18672, 8672), rent
+  10000, floor 0) whose only envy-free prices put room 1 at the floor, and the walk, bound by
+  the rule there, proposes a division where one member envies by 6583.
 """
 
 import math
@@ -232,14 +236,16 @@ def test_a_binding_floor_can_make_envy_unavoidable() -> None:
 )
 def test_two_rooms_any_values_with_floors(values: list[int], floor: int) -> None:
     # The documented weaker statement for floors, on arbitrary two-room tastes: members whose
-    # answers reflect their values are within the bound; anyone beyond it was placed by the
-    # boundary rule; and envy beyond the tolerance only happens where the LP finds no
-    # division envy-free within the tolerance.
+    # answers reflect their values are within the bound; anyone else was placed in a
+    # floor-priced room by the boundary rule; and where the LP finds no division envy-free
+    # within the tolerance, someone must have been placed that way (otherwise everyone would
+    # be within the bound, which is within the tolerance).
     problem = _problem(2, 10_000, floor, 100)
     rows = [[float(values[0]), float(values[1])], [float(values[2]), float(values[3])]]
     tenants = _quasi_linear_tenants(problem, rows)
     proposal = _proposal(problem, tenants)
     envy = {m: tenants[m].envy(proposal.prices, r) for m, r in proposal.assignment.items()}
+    placed_by_rule = 0
     for e in proposal.evidence:
         tenant = tenants[e.member]
         assert isinstance(tenant, QuasiLinear)
@@ -247,5 +253,25 @@ def test_two_rooms_any_values_with_floors(values: list[int], floor: int) -> None
             assert envy[e.member] <= proposal.envy_bound + EPS
         else:
             assert e.prices[e.room] == problem.floor
-    if max(envy.values()) > problem.tolerance + EPS:
-        assert not _envy_free_within(rows, problem.rent, problem.floor, problem.tolerance)
+            placed_by_rule += 1
+    if not _envy_free_within(rows, problem.rent, problem.floor, problem.tolerance):
+        assert placed_by_rule > 0
+        assert max(envy.values()) > problem.tolerance
+
+
+def test_a_member_who_would_pay_rather_than_take_a_free_room_is_not_covered() -> None:
+    # Found by hypothesis: an envy-free division exists (the LP finds one; its prices put
+    # room 1 at the floor), yet at the grid point (10000, 0) the boundary rule gives member
+    # m0 the free room although they would rather pay the whole rent for room 0. Su's
+    # miserly assumption fails for m0, so the method makes no promise to them.
+    problem = _problem(2, 10_000, 0, 100)
+    rows = [[19_119.0, 2_614.0], [18_672.0, 8_672.0]]
+    assert _envy_free_within(rows, problem.rent, problem.floor, 0)
+    tenants = _quasi_linear_tenants(problem, rows)
+    proposal = _proposal(problem, tenants)
+    for e in proposal.evidence:
+        tenant = tenants[e.member]
+        assert isinstance(tenant, QuasiLinear)
+        if tenant.envy(proposal.prices, e.room) > problem.tolerance:
+            assert not _quasi_linear_backed(tenant, e)
+            assert e.source == "rule" and e.prices[e.room] == problem.floor
