@@ -14,7 +14,8 @@ same optimum is computed two other ways, over hypothesis-generated value matrice
 
 Unrestricted envy-free prices always exist for a welfare-maximising assignment (L.-G.
 Svensson, "Large indivisibles: an analysis with respect to price equilibrium and fairness",
-Econometrica 51, 1983), so without a floor the primal is always feasible.
+Econometrica 51, 1983; title and volume from memory), so without a floor the primal is
+always feasible.
 """
 
 from itertools import permutations

@@ -13,8 +13,9 @@ measured with
     .venv/bin/python -c "from tests.solver.test_question_counts import questions_asked as q;
     print(q(3), q(4))"
 
-The bounds are those figures plus 5% (rounded down); a change that lowers the counts should
-lower the bounds too.
+The bounds are those figures plus 5% (rounded down; the margin is a rule of thumb, common
+practice for regression thresholds); a change that lowers the counts should lower the
+bounds too.
 """
 
 import pytest

@@ -127,9 +127,8 @@ def test_every_pair_of_two_room_tastes() -> None:
     # Exhaustive over quasi-linear tastes on a grid: each member's value difference between
     # the rooms runs over -32..32 in steps of 2 (only differences matter when money counts
     # one-for-one). With |difference| <= rent, envy-free prices >= 0 exist (Svensson,
-    # "Large indivisibles: an analysis with respect to price equilibrium and fairness",
-    # Econometrica 51, 1983, with the floor not binding), and the true envy must stay within
-    # the certified bound and the tolerance.
+    # Econometrica 51, 1983, for existence; the floor does not bind at these differences),
+    # and the true envy must stay within the certified bound and the tolerance.
     problem = _problem(2, 2, 32)
     options = Options(first_mesh_per_room=2, factor=8)
     differences = range(-32, 33, 2)
