@@ -30,6 +30,7 @@ from bot.events import (
 )
 from bot.keyboards import group_of_payload, token_of
 from bot.messages import Kind, Outgoing, RefusalFacts
+from bot.names import person_name
 from bot.runtime import AnyContext, runtime_of
 from bot.settings import parse_switch
 from bot.texts import CALLBACK_TEXT_LIMIT, fit, help_text, history, refusal
@@ -50,7 +51,7 @@ class SetupSyntax(ValueError):
 
 
 def actor_of(user: User, *, is_chat_admin: bool = False) -> Actor:
-    name = " ".join(part for part in (user.first_name, user.last_name) if part)
+    name = person_name(" ".join(part for part in (user.first_name, user.last_name) if part))
     return Actor(user.id, name or (user.username or f"member {user.id}"), is_chat_admin)
 
 

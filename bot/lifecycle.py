@@ -15,6 +15,7 @@ from bot.errors import IllegalMove, InvalidSetup, NotAllowed, Refusal, RefusalCo
 from bot.events import Actor, Configure
 from bot.facts import round_facts
 from bot.messages import Action, Kind, Outgoing, Recipient
+from bot.names import person_name
 from bot.permissions import require_admin, require_member
 from bot.phases import RERUN_FROM, Phase, Step, transition
 from bot.records import AuditKind, RoundRecord, TimerKind
@@ -137,7 +138,7 @@ async def join(ctx: Context, record: RoundRecord, actor: Actor) -> None:
             f"all {rooms} places are taken; one member must leave before you can join",
             RefusalCode.NOT_ALLOWED,
         )
-    name = actor.display_name.strip() or f"member {len(members) + 1}"
+    name = person_name(actor.display_name) or f"member {len(members) + 1}"
     await ctx.tx.add_member(record.id, actor.user_id, name, ctx.now)
     await ctx.audit(record.id, AuditKind.JOINED, actor.user_id, name=name)
     await announce(ctx, record.id, Kind.MEMBER_JOINED)

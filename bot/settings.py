@@ -19,6 +19,7 @@ from typing import Any
 from babel.numbers import get_currency_precision, list_currencies
 
 from bot.errors import InvalidSetup
+from bot.names import room_name
 from solver import InvalidProblem, Problem, split_exactly
 from solver.money import format_minor
 from solver.problem import MAX_NAME_LENGTH, MAX_ROOMS, MIN_ROOMS, MIN_TOLERANCE
@@ -187,7 +188,7 @@ def parse_amount(text: str, currency: str, *, what: str) -> int:
 def parse_rooms(names: Sequence[str] | str) -> tuple[str, ...]:
     """Room names, one per item (or one per line / comma in a single string)."""
     items = _split_names(names) if isinstance(names, str) else [str(n) for n in names]
-    rooms = tuple(item.strip() for item in items)
+    rooms = tuple(room_name(item) for item in items)
     if not MIN_ROOMS <= len(rooms) <= MAX_ROOMS:
         raise InvalidSetup(
             f"a round needs {MIN_ROOMS} to {MAX_ROOMS} rooms, you gave {len(rooms)}; "
@@ -299,7 +300,7 @@ def mark_common(settings: RoundSettings, names: Sequence[str] | str) -> RoundSet
     """Take the named rooms out of the round (kept as common space); "none" lets them all."""
     every = settings.rooms + settings.common
     items = _split_names(names) if isinstance(names, str) else [str(n) for n in names]
-    wanted = [item.strip() for item in items if item.strip()]
+    wanted = [room_name(item) for item in items if item.strip()]
     if [w.casefold() for w in wanted] in (["none"], ["-"]):
         wanted = []
     by_fold = {room.casefold(): room for room in every}
