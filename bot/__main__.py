@@ -11,6 +11,7 @@ import sys
 
 from pydantic import ValidationError
 
+from bot import redaction
 from bot.app import ALLOWED_UPDATES, WEBHOOK_PATH, build_application
 from bot.config import Settings, describe_error
 
@@ -32,6 +33,7 @@ def main() -> int:
     logging.basicConfig(
         level=settings.log_level, format="%(asctime)s %(levelname)s %(name)s: %(message)s"
     )
+    redaction.install(redaction.secrets_of(settings))
     logging.getLogger("httpx").setLevel(logging.WARNING)
     app = build_application(settings)
     if settings.mode == "webhook":

@@ -78,12 +78,21 @@ def test_dockerfile_is_slim_non_root_healthchecked_and_runs_the_bot() -> None:
     assert steps[user_at][1] not in ("root", "0")
     assert user_at < keywords.index("CMD") and user_at < keywords.index("HEALTHCHECK")
     health = dict(steps)["HEALTHCHECK"]
-    assert "CMD python -m bot.healthcheck" in health
+    assert health.endswith('CMD ["python", "-m", "bot.healthcheck"]')
     assert dict(steps)["CMD"] == '["python", "-m", "bot"]'
     for keyword, args in steps:
         if keyword == "COPY":
             for source in args.split()[:-1]:
                 assert (ROOT / source).exists(), f"COPY {source}: no such file in the repository"
+
+
+def test_health_check_keeps_the_database_address_off_the_command_line() -> None:
+    # A command line is visible to every host user in ps (proc(5): /proc/<pid>/cmdline); the
+    # address carries the PostgreSQL password, so the check reads it from the environment.
+    health = dict(dockerfile_instructions((DEPLOY / "Dockerfile").read_text()))["HEALTHCHECK"]
+    assert "FLATPACT_DATABASE" not in health and "--database" not in health
+    compose = (DEPLOY / "compose.yaml").read_text()
+    assert "healthcheck.py" not in compose and "--database" not in compose
 
 
 def test_compose_file_runs_the_bot_in_webhook_mode_on_postgres() -> None:

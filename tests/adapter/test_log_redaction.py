@@ -1,0 +1,71 @@
+"""``python -m bot`` at DEBUG against the stand-in: the real log shows no token and no secret.
+
+PTB logs the Bot API address, which contains the token (Bot API spec, "Making requests":
+``https://api.telegram.org/bot<token>/METHOD_NAME``), and the parameters of ``setWebhook``,
+among them ``secret_token``. The stand-in checks every call against the spec (fixture).
+"""
+
+from __future__ import annotations
+
+import asyncio
+import os
+import signal
+import socket
+import sys
+from pathlib import Path
+
+from bot.sandbox import BotApiStandIn
+
+SECRET = "quiet-harbour_secret-42"
+
+
+def _free_port() -> int:
+    with socket.socket() as probe:
+        probe.bind(("127.0.0.1", 0))
+        return int(probe.getsockname()[1])
+
+
+async def test_debug_log_of_a_real_run_hides_token_and_webhook_secret(
+    standin: BotApiStandIn, tmp_path: Path
+) -> None:
+    env = {
+        **os.environ,
+        "FLATPACT_BOT_TOKEN": standin.token,
+        "FLATPACT_DATABASE": str(tmp_path / "flatpact.sqlite3"),
+        "FLATPACT_BASE_URL": standin.base_url,
+        "FLATPACT_BASE_FILE_URL": standin.base_file_url,
+        "FLATPACT_LOG_LEVEL": "DEBUG",
+        "FLATPACT_MODE": "webhook",
+        "FLATPACT_WEBHOOK_LISTEN": "127.0.0.1",
+        "FLATPACT_WEBHOOK_PORT": str(_free_port()),
+        "FLATPACT_WEBHOOK_URL": "https://bot.invalid/telegram",
+        "FLATPACT_WEBHOOK_SECRET": SECRET,
+    }
+    bot = await asyncio.create_subprocess_exec(
+        sys.executable,
+        "-m",
+        "bot",
+        env=env,
+        cwd=tmp_path,  # no .env file here
+        stdout=asyncio.subprocess.PIPE,
+        stderr=asyncio.subprocess.PIPE,
+    )
+    try:
+        for _ in range(600):  # at most 60 s
+            if any(call.method == "setWebhook" for call in standin.calls) or bot.returncode:
+                break
+            await asyncio.sleep(0.1)
+        await asyncio.sleep(0.5)
+    finally:
+        if bot.returncode is None:
+            bot.send_signal(signal.SIGINT)  # PTB's run_webhook stops cleanly on SIGINT
+        _, err = await asyncio.wait_for(bot.communicate(), timeout=60)
+    log = err.decode()
+    # the run really happened and the log is the DEBUG one
+    assert any(call.method == "setWebhook" for call in standin.calls)
+    assert "DEBUG telegram" in log and "setWebhook" in log
+    # ... and neither the token (nor its secret half) nor the webhook secret is in it
+    token_secret = standin.token.split(":", 1)[1]
+    assert standin.token not in log and token_secret not in log
+    assert SECRET not in log
+    assert "[redacted]" in log
