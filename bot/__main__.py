@@ -1,21 +1,29 @@
 """``python -m bot``: run Flatpact with the settings from ``FLATPACT_*`` variables or ``.env``.
 
 A missing or malformed setting ends the program with one line on stderr and exit code 2
-(the usual code for a usage error), never with a traceback.
+(the usual code for a usage error), never with a traceback. Log records pass a redacting
+filter (:mod:`bot.redaction`), files are created private to the bot's user (umask 077), and
+webhook mode serves :mod:`bot.guarded_webhook` instead of PTB's own endpoint.
 """
 
 from __future__ import annotations
 
+import asyncio
 import logging
+import os
+import signal
 import sys
 
 from pydantic import ValidationError
 
 from bot import redaction
-from bot.app import ALLOWED_UPDATES, WEBHOOK_PATH, build_application
+from bot.app import ALLOWED_UPDATES, Webhook, build_application, running
 from bot.config import Settings, describe_error
+from bot.runtime import AnyApp
 
 USAGE_ERROR = 2
+#: umask for every file the bot creates: owner read/write only (0600 files, 0700 folders).
+PRIVATE_FILES = 0o077
 
 
 def load_settings() -> Settings | None:
@@ -26,10 +34,22 @@ def load_settings() -> Settings | None:
         return None
 
 
+async def serve_webhook(app: AnyApp, hook: Webhook) -> None:
+    """Serve the guarded webhook endpoint (:mod:`bot.guarded_webhook`) until SIGINT or SIGTERM."""
+    stop = asyncio.Event()
+    loop = asyncio.get_running_loop()
+    for signum in (signal.SIGINT, signal.SIGTERM):
+        loop.add_signal_handler(signum, stop.set)
+    async with running(app, webhook=hook):
+        await stop.wait()
+
+
 def main() -> int:
     settings = load_settings()
     if settings is None:
         return USAGE_ERROR
+    # Files the bot creates (the SQLite database and its journals) are for its user alone.
+    os.umask(PRIVATE_FILES)
     logging.basicConfig(
         level=settings.log_level, format="%(asctime)s %(levelname)s %(name)s: %(message)s"
     )
@@ -38,14 +58,9 @@ def main() -> int:
     app = build_application(settings)
     if settings.mode == "webhook":
         secret = settings.webhook_secret.get_secret_value() if settings.webhook_secret else None
-        app.run_webhook(
-            listen=settings.webhook_listen,
-            port=settings.webhook_port,
-            url_path=WEBHOOK_PATH,
-            webhook_url=(settings.webhook_url or "").rstrip("/"),
-            secret_token=secret,
-            allowed_updates=ALLOWED_UPDATES,
-        )
+        url = (settings.webhook_url or "").rstrip("/")
+        hook = Webhook(settings.webhook_listen, settings.webhook_port, url, secret)
+        asyncio.run(serve_webhook(app, hook))
     else:
         app.run_polling(allowed_updates=ALLOWED_UPDATES)
     return 0

@@ -1,4 +1,4 @@
-"""``python -m bot`` at DEBUG against the stand-in: the real log shows no token and no secret.
+"""``python -m bot`` against the stand-in: its DEBUG log hides secrets; its files are private.
 
 PTB logs the Bot API address, which contains the token (Bot API spec, "Making requests":
 ``https://api.telegram.org/bot<token>/METHOD_NAME``), and the parameters of ``setWebhook``,
@@ -11,6 +11,7 @@ import asyncio
 import os
 import signal
 import socket
+import stat
 import sys
 from pathlib import Path
 
@@ -25,9 +26,8 @@ def _free_port() -> int:
         return int(probe.getsockname()[1])
 
 
-async def test_debug_log_of_a_real_run_hides_token_and_webhook_secret(
-    standin: BotApiStandIn, tmp_path: Path
-) -> None:
+async def _run_bot(standin: BotApiStandIn, tmp_path: Path) -> str:
+    """``python -m bot`` in webhook mode at DEBUG until it has set its webhook; its stderr."""
     env = {
         **os.environ,
         "FLATPACT_BOT_TOKEN": standin.token,
@@ -58,14 +58,35 @@ async def test_debug_log_of_a_real_run_hides_token_and_webhook_secret(
         await asyncio.sleep(0.5)
     finally:
         if bot.returncode is None:
-            bot.send_signal(signal.SIGINT)  # PTB's run_webhook stops cleanly on SIGINT
+            bot.send_signal(signal.SIGINT)  # python -m bot stops cleanly on SIGINT
         _, err = await asyncio.wait_for(bot.communicate(), timeout=60)
-    log = err.decode()
-    # the run really happened and the log is the DEBUG one
+    assert bot.returncode == 0, err.decode()[-2000:]
     assert any(call.method == "setWebhook" for call in standin.calls)
+    return err.decode()
+
+
+async def test_debug_log_of_a_real_run_hides_token_and_webhook_secret(
+    standin: BotApiStandIn, tmp_path: Path
+) -> None:
+    log = await _run_bot(standin, tmp_path)
+    # the log is the DEBUG one, and it talked about the webhook
     assert "DEBUG telegram" in log and "setWebhook" in log
     # ... and neither the token (nor its secret half) nor the webhook secret is in it
     token_secret = standin.token.split(":", 1)[1]
     assert standin.token not in log and token_secret not in log
     assert SECRET not in log
     assert "[redacted]" in log
+
+
+async def test_a_fresh_database_is_readable_by_the_bot_user_alone(
+    standin: BotApiStandIn, tmp_path: Path
+) -> None:
+    old = os.umask(0o022)  # the usual umask: without care, new files are world-readable
+    try:
+        await _run_bot(standin, tmp_path)
+    finally:
+        os.umask(old)
+    created = [p for p in tmp_path.iterdir() if p.name.startswith("flatpact.sqlite3")]
+    assert created
+    for path in created:  # the database and any journal left behind
+        assert stat.S_IMODE(path.stat().st_mode) & 0o077 == 0, (path, oct(path.stat().st_mode))
