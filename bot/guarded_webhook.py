@@ -7,7 +7,7 @@ own (the "custom webhook" example: the server decodes the ``Update`` and puts it
 ``application.update_queue``), so this module is that server, on the same tornado PTB uses:
 
 * a request without the right ``X-Telegram-Bot-Api-Secret-Token`` is refused with 403 before
-  its body is read, by :func:`bot.webhook_guard.verify` (``hmac.compare_digest``);
+  its body is parsed, by :func:`bot.webhook_guard.verify` (``hmac.compare_digest``);
 * a body above :data:`MAX_BODY_BYTES` is refused by tornado before it is buffered, so a
   published port cannot be made to hold 100 MB per connection;
 * anything but a JSON ``Update`` is refused with 400 and never reaches a handler.
@@ -51,7 +51,8 @@ class _UpdateEndpoint(RequestHandler):
         if self.secret is not None:
             verdict = verify(self.request.headers, self.secret)
             if not verdict.ok:
-                log.info("webhook request refused: %s", verdict.reason)
+                # debug, as PTB does: anyone can send these, and a flood must not fill the log
+                log.debug("webhook request refused: %s", verdict.reason)
                 self._answer(verdict.status)
                 return
         media_type = self.request.headers.get("Content-Type", "").split(";")[0].strip().lower()
@@ -61,7 +62,7 @@ class _UpdateEndpoint(RequestHandler):
         try:
             update = Update.de_json(json.loads(self.request.body), self.app.bot)
         except Exception:  # any malformed body: refused, never handled
-            log.warning("webhook request refused: the body is not a Telegram update")
+            log.debug("webhook request refused: the body is not a Telegram update")
             self._answer(HTTPStatus.BAD_REQUEST)
             return
         if isinstance(self.app.bot, ExtBot):
