@@ -15,6 +15,7 @@ import signal
 import sys
 
 from pydantic import ValidationError
+from telegram.error import InvalidToken
 
 from bot import redaction
 from bot.app import ALLOWED_UPDATES, Webhook, build_application, running
@@ -56,13 +57,25 @@ def main() -> int:
     redaction.install(redaction.secrets_of(settings))
     logging.getLogger("httpx").setLevel(logging.WARNING)
     app = build_application(settings)
-    if settings.mode == "webhook":
-        secret = settings.webhook_secret.get_secret_value() if settings.webhook_secret else None
-        url = (settings.webhook_url or "").rstrip("/")
-        hook = Webhook(settings.webhook_listen, settings.webhook_port, url, secret)
-        asyncio.run(serve_webhook(app, hook))
-    else:
-        app.run_polling(allowed_updates=ALLOWED_UPDATES)
+    try:
+        if settings.mode == "webhook":
+            secret = settings.webhook_secret.get_secret_value() if settings.webhook_secret else None
+            url = (settings.webhook_url or "").rstrip("/")
+            hook = Webhook(settings.webhook_listen, settings.webhook_port, url, secret)
+            asyncio.run(serve_webhook(app, hook))
+        else:
+            app.run_polling(allowed_updates=ALLOWED_UPDATES)
+    except InvalidToken:
+        print(
+            "flatpact: Telegram refused FLATPACT_BOT_TOKEN; copy it again from @BotFather",
+            file=sys.stderr,
+        )
+        return USAGE_ERROR
+    except Exception:
+        # Through logging, so the redacting filter sees the traceback (PTB's errors can quote
+        # the token); Python's own last-resort printer would write it as it is.
+        logging.getLogger("bot").critical("the bot stopped on an error", exc_info=True)
+        return 1
     return 0
 
 

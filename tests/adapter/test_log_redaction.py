@@ -90,3 +90,31 @@ async def test_a_fresh_database_is_readable_by_the_bot_user_alone(
     assert created
     for path in created:  # the database and any journal left behind
         assert stat.S_IMODE(path.stat().st_mode) & 0o077 == 0, (path, oct(path.stat().st_mode))
+
+
+async def test_a_refused_token_stops_the_bot_with_one_line_that_does_not_quote_it(
+    standin: BotApiStandIn, tmp_path: Path
+) -> None:
+    # PTB's InvalidToken quotes the token; uncaught, Python would print it in the traceback.
+    wrong = "7000000009:AAHdqTcvCH1vGWJxfSeofSAs0K5PALDsawX"
+    env = {
+        **os.environ,
+        "FLATPACT_BOT_TOKEN": wrong,
+        "FLATPACT_DATABASE": str(tmp_path / "flatpact.sqlite3"),
+        "FLATPACT_BASE_URL": standin.base_url,
+        "FLATPACT_BASE_FILE_URL": standin.base_file_url,
+    }
+    bot = await asyncio.create_subprocess_exec(
+        sys.executable,
+        "-m",
+        "bot",
+        env=env,
+        cwd=tmp_path,
+        stdout=asyncio.subprocess.PIPE,
+        stderr=asyncio.subprocess.PIPE,
+    )
+    _, err = await asyncio.wait_for(bot.communicate(), timeout=60)
+    text = err.decode()
+    assert bot.returncode == 2  # a usage error, like any other bad setting
+    assert text.strip().splitlines()[-1].startswith("flatpact: Telegram refused FLATPACT_BOT_TOKEN")
+    assert wrong.split(":", 1)[1] not in text
