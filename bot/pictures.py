@@ -39,7 +39,7 @@ from matplotlib.figure import Figure
 from matplotlib.patches import Polygon
 
 from solver import Walk
-from solver.money import split_exactly
+from solver.money import format_minor, split_exactly
 
 OKABE_ITO = (
     "#E69F00",
@@ -121,7 +121,7 @@ def tolerance_band(proposal: Sequence[int], tolerance: int) -> list[tuple[int, .
 def render_png(data: PictureData, currency: str = "", decimals: int = 2) -> bytes:
     """Draw the picture and return PNG bytes (``decimals``: minor units per major unit)."""
     triangle = len(data.rooms) == 3 and not data.empty_rooms
-    fig = _triangle(data) if triangle else _price_bars(data, currency, 10**decimals)
+    fig = _triangle(data) if triangle else _price_bars(data, currency, decimals)
     buffer = io.BytesIO()
     fig.savefig(buffer, format="png", dpi=110, bbox_inches="tight")
     return buffer.getvalue()
@@ -180,7 +180,8 @@ def _zoom(
     inset.set_title("around the proposal, enlarged", fontsize=8)
 
 
-def _price_bars(data: PictureData, currency: str, per_major: int) -> Figure:
+def _price_bars(data: PictureData, currency: str, decimals: int) -> Figure:
+    per_major = 10**decimals
     fig = Figure(figsize=(7.2, max(3.0, 0.9 + 0.45 * len(data.rooms))))
     ax = fig.subplots()
     rows = range(len(data.rooms))
@@ -201,6 +202,16 @@ def _price_bars(data: PictureData, currency: str, per_major: int) -> Figure:
             capsize=4,
         )
         ax.plot([price], [room], marker=MARKERS[room], color="#333333", markersize=5)
+        label = format_minor(data.proposal[room], decimals)
+        ax.annotate(
+            label,
+            (0, room),
+            (6, 0),
+            textcoords="offset points",
+            va="center",
+            fontsize=8,
+            bbox={"boxstyle": "round,pad=0.2", "facecolor": "white", "alpha": 0.85, "lw": 0},
+        )
     ax.set_yticks(list(rows), data.rooms)
     ax.invert_yaxis()
     ax.set_xlabel(f"proposed price {currency}".strip())
