@@ -60,8 +60,11 @@ class _UpdateEndpoint(RequestHandler):
             self._answer(HTTPStatus.UNSUPPORTED_MEDIA_TYPE)
             return
         try:
-            update = Update.de_json(json.loads(self.request.body), self.app.bot)
+            data = json.loads(self.request.body)
+            update = Update.de_json(data, self.app.bot) if isinstance(data, dict) else None
         except Exception:  # any malformed body: refused, never handled
+            update = None
+        if update is None:
             log.debug("webhook request refused: the body is not a Telegram update")
             self._answer(HTTPStatus.BAD_REQUEST)
             return

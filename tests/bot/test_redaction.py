@@ -30,12 +30,17 @@ def captured() -> Iterator[io.StringIO]:
     stream = io.StringIO()
     handler = logging.StreamHandler(stream)
     handler.setFormatter(logging.Formatter("%(levelname)s %(name)s: %(message)s"))
+    # install() on a stand-alone logger holding only this handler, so pytest's own capture
+    # handlers on the root logger stay unfiltered for the other tests
+    holder = logging.Logger("holder")
+    holder.addHandler(handler)
+    install([TOKEN, PASSWORD, "wren-yard_7-secret"], holder)
+    assert len(handler.filters) == 1
     root = logging.getLogger()
     old_level = root.level
     root.addHandler(handler)
     root.setLevel(logging.DEBUG)
     try:
-        install([TOKEN, PASSWORD, "wren-yard_7-secret"])
         yield stream
     finally:
         root.removeHandler(handler)
