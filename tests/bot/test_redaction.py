@@ -92,11 +92,21 @@ async def test_httpx_and_ptb_loggers_at_debug_never_show_the_token(
 
     from bot.sandbox import BotApiStandIn
 
-    async with BotApiStandIn(token=TOKEN) as standin:
-        bot = Bot(TOKEN, base_url=standin.base_url, base_file_url=standin.base_file_url)
-        async with bot:
-            await bot.get_me()
-            await bot.set_webhook("https://bot.invalid/telegram", secret_token="wren-yard_7-secret")
+    loggers = [logging.getLogger(name) for name in ("httpx", "telegram")]
+    levels = [logger.level for logger in loggers]
+    for logger in loggers:
+        logger.setLevel(logging.DEBUG)
+    try:
+        async with BotApiStandIn(token=TOKEN) as standin:
+            bot = Bot(TOKEN, base_url=standin.base_url, base_file_url=standin.base_file_url)
+            async with bot:
+                await bot.get_me()
+                await bot.set_webhook(
+                    "https://bot.invalid/telegram", secret_token="wren-yard_7-secret"
+                )
+    finally:
+        for logger, level in zip(loggers, levels, strict=True):
+            logger.setLevel(level)
     log = captured.getvalue()
     assert "httpx: HTTP Request: POST" in log and "telegram" in log  # they did log
     assert TOKEN not in log and TOKEN.split(":")[1] not in log
