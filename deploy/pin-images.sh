@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # Print the base images by digest, as lines for deploy/.env:
-#   bash deploy/pin-images.sh >> deploy/.env      # review them, then build and start
+#   bash deploy/pin-images.sh     # review them; they replace the empty FLATPACT_*_IMAGE= lines
 #
 # A tag (python:3.11-slim-bookworm) can point at another image tomorrow; a digest cannot.
 # compose.yaml and the Dockerfile take the images only from these variables and stop when one
