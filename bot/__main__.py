@@ -1,20 +1,30 @@
 """``python -m bot``: run Flatpact with the settings from ``FLATPACT_*`` variables or ``.env``.
 
 A missing or malformed setting ends the program with one line on stderr and exit code 2
-(the usual code for a usage error), never with a traceback.
+(the usual code for a usage error), never with a traceback. Log records pass a redacting
+filter (:mod:`bot.adapter.redaction`), files are created private to the bot's user (umask 077), and
+webhook mode serves :mod:`bot.adapter.guarded_webhook` instead of PTB's own endpoint.
 """
 
 from __future__ import annotations
 
+import asyncio
 import logging
+import os
+import signal
 import sys
 
 from pydantic import ValidationError
+from telegram.error import InvalidToken
 
-from bot.adapter.application import ALLOWED_UPDATES, WEBHOOK_PATH, build_application
+from bot.adapter import redaction
+from bot.adapter.application import ALLOWED_UPDATES, Webhook, build_application, running
 from bot.adapter.process_settings import Settings, describe_error
+from bot.adapter.runtime import AnyApp
 
 USAGE_ERROR = 2
+#: umask for every file the bot creates: owner read/write only (0600 files, 0700 folders).
+PRIVATE_FILES = 0o077
 
 
 def load_settings() -> Settings | None:
@@ -25,27 +35,48 @@ def load_settings() -> Settings | None:
         return None
 
 
+async def serve_webhook(app: AnyApp, hook: Webhook) -> None:
+    """Serve the guarded webhook endpoint (:mod:`bot.adapter.guarded_webhook`) until SIGINT
+    or SIGTERM."""
+    stop = asyncio.Event()
+    loop = asyncio.get_running_loop()
+    for signum in (signal.SIGINT, signal.SIGTERM):
+        loop.add_signal_handler(signum, stop.set)
+    async with running(app, webhook=hook):
+        await stop.wait()
+
+
 def main() -> int:
     settings = load_settings()
     if settings is None:
         return USAGE_ERROR
+    # Files the bot creates (the SQLite database and its journals) are for its user alone.
+    os.umask(PRIVATE_FILES)
     logging.basicConfig(
         level=settings.log_level, format="%(asctime)s %(levelname)s %(name)s: %(message)s"
     )
+    redaction.install(redaction.secrets_of(settings))
     logging.getLogger("httpx").setLevel(logging.WARNING)
     app = build_application(settings)
-    if settings.mode == "webhook":
-        secret = settings.webhook_secret.get_secret_value() if settings.webhook_secret else None
-        app.run_webhook(
-            listen=settings.webhook_listen,
-            port=settings.webhook_port,
-            url_path=WEBHOOK_PATH,
-            webhook_url=(settings.webhook_url or "").rstrip("/"),
-            secret_token=secret,
-            allowed_updates=ALLOWED_UPDATES,
+    try:
+        if settings.mode == "webhook":
+            secret = settings.webhook_secret.get_secret_value() if settings.webhook_secret else None
+            url = (settings.webhook_url or "").rstrip("/")
+            hook = Webhook(settings.webhook_listen, settings.webhook_port, url, secret)
+            asyncio.run(serve_webhook(app, hook))
+        else:
+            app.run_polling(allowed_updates=ALLOWED_UPDATES)
+    except InvalidToken:
+        print(
+            "flatpact: Telegram refused FLATPACT_BOT_TOKEN; copy it again from @BotFather",
+            file=sys.stderr,
         )
-    else:
-        app.run_polling(allowed_updates=ALLOWED_UPDATES)
+        return USAGE_ERROR
+    except Exception:
+        # Through logging, so the redacting filter sees the traceback (PTB's errors can quote
+        # the token); Python's own last-resort printer would write it as it is.
+        logging.getLogger("bot").critical("the bot stopped on an error", exc_info=True)
+        return 1
     return 0
 
 

@@ -23,7 +23,7 @@ from telegram.ext import (
     filters,
 )
 
-from bot.adapter import handlers
+from bot.adapter import guarded_webhook, handlers
 from bot.adapter.delivery import Delivery
 from bot.adapter.guided_setup import guided_setup_handler
 from bot.adapter.keyboards import CALLBACK_PREFIX
@@ -146,8 +146,9 @@ async def running(
     """Initialise, post_init, start polling (or the webhook); on exit stop it all.
 
     The same steps as PTB's ``run_polling`` / ``run_webhook``, inside an event loop the caller
-    owns (tests, the demo). With ``webhook``, PTB's webhook server answers a request whose
-    ``X-Telegram-Bot-Api-Secret-Token`` header is wrong or missing with 403 and drops it.
+    owns (tests, the demo). With ``webhook``, :mod:`bot.adapter.guarded_webhook` serves the
+    endpoint: a request whose ``X-Telegram-Bot-Api-Secret-Token`` header is wrong or missing
+    gets 403.
     """
     await app.initialize()
     try:
@@ -155,23 +156,25 @@ async def running(
             await app.post_init(app)
         await app.start()
         assert app.updater is not None
+        endpoint = None
         if webhook is None:
             await app.updater.start_polling(
                 poll_interval=0.0, timeout=poll_timeout, allowed_updates=ALLOWED_UPDATES
             )
         else:
-            await app.updater.start_webhook(
+            endpoint = await guarded_webhook.start(
+                app,
                 listen=webhook.listen,
                 port=webhook.port,
-                url_path=WEBHOOK_PATH,
-                webhook_url=webhook.url,
-                secret_token=webhook.secret,
+                path=WEBHOOK_PATH,
+                url=webhook.url,
+                secret=webhook.secret,
                 allowed_updates=ALLOWED_UPDATES,
             )
         try:
             yield app
         finally:
-            await app.updater.stop()
+            await (app.updater.stop() if endpoint is None else endpoint.stop())
             await app.stop()
     finally:
         await app.shutdown()

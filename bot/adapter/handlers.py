@@ -33,6 +33,7 @@ from bot.rounds.events import (
     ShowMyAnswers,
 )
 from bot.rounds.messages import Kind, Outgoing, RefusalFacts
+from bot.rounds.names import person_name
 from bot.rounds.setup_input import (
     SetupInput,
     parse_adjust_line,
@@ -45,7 +46,7 @@ GROUP_TYPES = (ChatType.GROUP, ChatType.SUPERGROUP)
 
 
 def actor_of(user: User, *, is_chat_admin: bool = False) -> Actor:
-    name = " ".join(part for part in (user.first_name, user.last_name) if part)
+    name = person_name(" ".join(part for part in (user.first_name, user.last_name) if part))
     return Actor(user.id, name or (user.username or f"member {user.id}"), is_chat_admin)
 
 

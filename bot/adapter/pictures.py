@@ -1,9 +1,23 @@
-"""Pictures of a walk: how the prices moved, for the group and the demo.
+"""The picture that goes with a proposal: what the group may know, drawn.
 
-Flatmates trust what they can see. For three rooms we draw the price triangle: every price
-list someone was asked about, coloured and shaped by the room they chose, the order in which
-the walk visited them, and the final small cell. For more rooms we draw each room's price
-across the questions, converging to the proposal.
+Flatmates trust what they can see, but each one's answers are private. Every price list the
+walk asked about, the room chosen there, and even the *sequence* of prices the walk visited
+depend on individual answers (the grid's owner rule tells the group whose corner each point
+was), so none of them is drawn. The group's picture shows only what the proposal message
+already tells the group:
+
+* the proposed price of every room, and the room count, rent and floor of the round;
+* the band the proposal vouches for: "each of you chose your room at prices within the
+  tolerance of these" — every room's price give or take the tolerance (a setting, not an
+  answer);
+* an even split of the rent as a reference point (it depends on nothing but the rent).
+
+So two rounds with the same settings and the same proposed prices get the same picture,
+whatever anyone answered (tested). Who takes which room is in the proposal text, not here.
+
+For three let rooms we draw the price triangle (every way of splitting the rent) with the
+even split, the proposal and its tolerance band (a small hexagon); for other room counts,
+each room's proposed price as a bar with the band as an error bar and the even share as a line.
 
 The data a picture shows is computed first (:func:`picture_data`, plain values, testable)
 and drawn second (:func:`render_png`, matplotlib's object API without pyplot: no display and
@@ -18,11 +32,14 @@ import io
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from fractions import Fraction
 
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
+from matplotlib.patches import Polygon
 
-from bot.rounds.searches import AnySearch, records_of
+from bot.rounds.searches import AnySearch
+from solver.money import format_minor, split_exactly
 
 OKABE_ITO = (
     "#E69F00",
@@ -40,46 +57,42 @@ MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*", "h", "<")
 
 
 @dataclass(frozen=True, slots=True)
-class Visit:
-    """One labelled price list of the walk, in the order the walk needed it.
-
-    ``asked``: a member answered at exactly these prices (when the walk got there, or ahead of
-    time); otherwise the label came from the floor rule or was implied by earlier answers.
-    """
-
-    prices: tuple[int, ...]
-    room: int
-    asked: bool
-
-
-@dataclass(frozen=True, slots=True)
 class PictureData:
-    """Everything a picture shows, as plain numbers and names."""
+    """Everything the group's picture shows: settings and the proposal, never an answer.
+
+    ``even_split``: the rent split evenly among the let rooms (``None`` for a room that stays
+    empty), a reference that depends on the rent alone. ``proposal``: every room's proposed
+    price, or ``None`` before there is one.
+    """
 
     rooms: tuple[str, ...]
     rent: int
     floor: int
-    visits: tuple[Visit, ...]
-    final_cell: tuple[tuple[int, ...], ...]
+    tolerance: int
+    even_split: tuple[int | None, ...]
     proposal: tuple[int, ...] | None
+    empty_rooms: tuple[int, ...]
 
 
 def picture_data(walk: AnySearch) -> PictureData:
-    """The price lists the search labelled (asked or inferred), in order, and its result."""
-    visits = tuple(
-        Visit(r.prices, r.room, r.source in ("asked", "repeat"))
-        for r in records_of(walk)
-        if r.vertex is not None or r.source in ("asked", "repeat", "rule")
-    )
-    proposal = walk.proposal()
+    """What the group may see of a round's search: its settings and its proposal (see module
+    doc)."""
     problem = walk.problem
+    proposal = walk.proposal()
+    empty = tuple(sorted(proposal.empty_rooms)) if proposal else ()
+    let = [room for room in range(problem.size) if room not in empty]
+    shares = split_exactly([Fraction(problem.rent, len(let))] * len(let), problem.rent)
+    even: list[int | None] = [None] * problem.size
+    for room, share in zip(let, shares, strict=True):
+        even[room] = share
     return PictureData(
         rooms=problem.rooms,
         rent=problem.rent,
         floor=problem.floor,
-        visits=visits,
-        final_cell=tuple(e.prices for e in proposal.evidence) if proposal else (),
+        tolerance=problem.tolerance,
+        even_split=tuple(even),
         proposal=proposal.prices if proposal else None,
+        empty_rooms=empty,
     )
 
 
@@ -90,9 +103,26 @@ def triangle_xy(prices: Sequence[int], floor: int, rent: int) -> tuple[float, fl
     return w[1] + w[2] / 2, w[2] * math.sqrt(3) / 2
 
 
+def tolerance_band(proposal: Sequence[int], tolerance: int) -> list[tuple[int, ...]]:
+    """Corners of the price lists within ``tolerance`` of ``proposal`` room by room.
+
+    Moving up to the tolerance from one room to another keeps the total; in three rooms the
+    set is a hexagon whose corners move exactly the tolerance from room ``j`` to room ``i``.
+    """
+    order = ((0, 1), (0, 2), (1, 2), (1, 0), (2, 0), (2, 1))
+    corners = []
+    for gain, loss in order:
+        point = list(proposal)
+        point[gain] += tolerance
+        point[loss] -= tolerance
+        corners.append(tuple(point))
+    return corners
+
+
 def render_png(data: PictureData, currency: str = "", decimals: int = 2) -> bytes:
     """Draw the picture and return PNG bytes (``decimals``: minor units per major unit)."""
-    fig = _triangle(data) if len(data.rooms) == 3 else _price_lines(data, currency, 10**decimals)
+    triangle = len(data.rooms) == 3 and not data.empty_rooms
+    fig = _triangle(data) if triangle else _price_bars(data, currency, decimals)
     buffer = io.BytesIO()
     fig.savefig(buffer, format="png", dpi=110, bbox_inches="tight")
     return buffer.getvalue()
@@ -102,91 +132,93 @@ def _triangle(data: PictureData) -> Figure:
     fig = Figure(figsize=(6.4, 5.8))
     ax = fig.subplots()
     corners = [(0.0, 0.0), (1.0, 0.0), (0.5, math.sqrt(3) / 2)]
-    ax.fill(*zip(*corners, strict=True), color="#f4f1ea", zorder=0)
+    outline = ax.fill(*zip(*corners, strict=True), color="#f4f1ea", zorder=0)[0]
     ax.plot(*zip(*(corners + corners[:1]), strict=True), color="#5b5b5b", lw=1.2)
     offsets = [(-0.04, -0.05), (0.04, -0.05), (0.0, 0.04)]
     aligns = ["right", "left", "center"]
-    for (cx, cy), (dx, dy), name, align in zip(corners, offsets, data.rooms, aligns, strict=True):
-        ax.text(cx + dx, cy + dy, f"{name}\ncosts it all", ha=align, va="center", fontsize=9)
-    path = [triangle_xy(v.prices, data.floor, data.rent) for v in data.visits]
-    if path:
-        ax.plot(*zip(*path, strict=True), color="#7a7a7a", lw=0.6, alpha=0.6, zorder=1)
-    for room, name in enumerate(data.rooms):
-        mine = [p for p, v in zip(path, data.visits, strict=True) if v.room == room]
-        if mine:
-            xs, ys = zip(*mine, strict=True)
-            ax.scatter(
-                xs,
-                ys,
-                s=22,
-                color=OKABE_ITO[room],
-                marker=MARKERS[room],
-                edgecolor="#333333",
-                linewidth=0.4,
-                label=f"chose {name}",
-                zorder=2,
-            )
-    if data.final_cell:
-        cell = [triangle_xy(p, data.floor, data.rent) for p in data.final_cell]
-        ax.fill(*zip(*cell, strict=True), facecolor="none", edgecolor="#000000", lw=1.6, zorder=3)
+    for room, ((cx, cy), (dx, dy), align) in enumerate(zip(corners, offsets, aligns, strict=True)):
+        ax.scatter([cx], [cy], s=40, color=OKABE_ITO[room], marker=MARKERS[room], zorder=2)
+        label = f"{data.rooms[room]}\ncosts it all"
+        ax.text(cx + dx, cy + dy, label, ha=align, va="center", fontsize=9)
+    even = [p for p in data.even_split if p is not None]
+    ex, ey = triangle_xy(even, data.floor, data.rent)
+    ax.scatter([ex], [ey], s=50, marker="o", facecolor="none", edgecolor="#333333", zorder=3)
+    ax.annotate("even split", (ex, ey), (6, -12), textcoords="offset points", fontsize=8)
     if data.proposal is not None:
         px, py = triangle_xy(data.proposal, data.floor, data.rent)
-        ax.scatter([px], [py], s=90, marker="*", color="#000000", zorder=4, label="proposal")
+        band = [
+            triangle_xy(p, data.floor, data.rent)
+            for p in tolerance_band(data.proposal, data.tolerance)
+        ]
+        hexagon = Polygon(band, closed=True, facecolor="#56B4E9", alpha=0.35, edgecolor="#0072B2")
+        ax.add_patch(hexagon)
+        hexagon.set_clip_path(outline)
+        ax.annotate("", (px, py), (ex, ey), arrowprops={"arrowstyle": "->", "color": "#5b5b5b"})
+        ax.scatter([px], [py], s=110, marker="*", color="#000000", zorder=4, label="proposal")
+        ax.plot([], [], color="#56B4E9", lw=6, alpha=0.6, label="within the tolerance")
+        _zoom(ax, data, band, (px, py))
     ax.set_aspect("equal")
     ax.axis("off")
     ax.legend(loc="upper right", fontsize=8, frameon=False)
-    ax.set_title("Price lists asked about, and the room chosen", fontsize=11, pad=28)
-    if data.final_cell:
-        _zoom(ax, data, path)
+    ax.set_title("Every way to split the rent, and the proposal", fontsize=11, pad=28)
     return fig
 
 
-def _zoom(ax: Axes, data: PictureData, path: Sequence[tuple[float, float]]) -> None:
-    """An inset around the last stretch of the walk, where the points crowd together."""
-    tail = path[len(path) // 2 :] or path
-    xs, ys = [p[0] for p in tail], [p[1] for p in tail]
-    margin = max(max(xs) - min(xs), max(ys) - min(ys), 1e-4) * 0.15
+def _zoom(
+    ax: Axes, data: PictureData, band: Sequence[tuple[float, float]], star: tuple[float, float]
+) -> None:
+    """An inset around the proposal, where the tolerance band is too small to see."""
+    xs, ys = [p[0] for p in band], [p[1] for p in band]
+    margin = max(max(xs) - min(xs), max(ys) - min(ys), 1e-4) * 0.6
     inset = ax.inset_axes((0.02, 0.55, 0.36, 0.36))
-    inset.plot(xs, ys, color="#7a7a7a", lw=0.6, alpha=0.7)
-    for (x, y), visit in zip(path[len(path) - len(tail) :], data.visits[-len(tail) :], strict=True):
-        inset.scatter(
-            [x],
-            [y],
-            s=18,
-            color=OKABE_ITO[visit.room],
-            marker=MARKERS[visit.room],
-            edgecolor="#333333",
-            linewidth=0.4,
-        )
-    cell = [triangle_xy(p, data.floor, data.rent) for p in data.final_cell]
-    inset.fill(*zip(*cell, strict=True), facecolor="none", edgecolor="#000000", lw=1.4)
+    inset.fill(xs, ys, facecolor="#56B4E9", alpha=0.35, edgecolor="#0072B2")
+    inset.scatter([star[0]], [star[1]], s=60, marker="*", color="#000000")
     inset.set_xlim(min(xs) - margin, max(xs) + margin)
     inset.set_ylim(min(ys) - margin, max(ys) + margin)
+    inset.set_aspect("equal")
     inset.set_xticks([])
     inset.set_yticks([])
-    inset.set_title("last steps, enlarged", fontsize=8)
+    inset.set_title("around the proposal, enlarged", fontsize=8)
 
 
-def _price_lines(data: PictureData, currency: str, per_major: int) -> Figure:
-    fig = Figure(figsize=(7.2, 4.4))
+def _price_bars(data: PictureData, currency: str, decimals: int) -> Figure:
+    per_major = 10**decimals
+    fig = Figure(figsize=(7.2, max(3.0, 0.9 + 0.45 * len(data.rooms))))
     ax = fig.subplots()
-    steps = range(1, len(data.visits) + 1)
-    for room, name in enumerate(data.rooms):
-        series = [v.prices[room] / per_major for v in data.visits]
-        ax.plot(
-            steps,
-            series,
+    rows = range(len(data.rooms))
+    for room in rows:
+        even = data.even_split[room]
+        if even is not None:
+            ax.plot([even / per_major] * 2, [room - 0.4, room + 0.4], color="#333333", ls="--")
+        if data.proposal is None:
+            continue
+        price = data.proposal[room] / per_major
+        ax.barh(
+            room,
+            price,
             color=OKABE_ITO[room],
-            marker=MARKERS[room],
-            markersize=3.5,
-            lw=1.1,
-            label=name,
+            edgecolor="#333333",
+            hatch="//" if room in data.empty_rooms else None,
+            xerr=data.tolerance / per_major,
+            capsize=4,
         )
-        if data.proposal is not None:
-            ax.axhline(data.proposal[room] / per_major, color=OKABE_ITO[room], lw=0.8, ls=":")
-    ax.set_xlabel("price lists, in the order the walk needed them")
-    ax.set_ylabel(f"price per room {currency}".strip())
-    ax.set_title("Each room's price converging to the proposal (dotted)", fontsize=11)
-    ax.legend(fontsize=8, frameon=False, ncol=2)
-    ax.grid(alpha=0.25)
+        ax.plot([price], [room], marker=MARKERS[room], color="#333333", markersize=5)
+        label = format_minor(data.proposal[room], decimals)
+        ax.annotate(
+            label,
+            (0, room),
+            (6, 0),
+            textcoords="offset points",
+            va="center",
+            fontsize=8,
+            bbox={"boxstyle": "round,pad=0.2", "facecolor": "white", "alpha": 0.85, "lw": 0},
+        )
+    ax.set_yticks(list(rows), data.rooms)
+    ax.invert_yaxis()
+    ax.set_xlabel(f"proposed price {currency}".strip())
+    title = "Proposed price per room, give or take the tolerance; dashed: an even split"
+    if data.empty_rooms:
+        title += "\nhatched: stays empty"
+    ax.set_title(title, fontsize=10)
+    ax.grid(axis="x", alpha=0.25)
     return fig

@@ -1,9 +1,10 @@
-"""The picture that goes with a proposal: how the prices moved while the flatmates answered.
+"""The picture that goes with a proposal: where the suggested split lies among all splits.
 
 A proposal asks people to trust a result they did not see being made. The picture shows the
-price lists they were asked about and how the walk closed in on the suggested split, so the
-group can see it was worked out from their answers. It is an extra: anything going wrong here
-is logged and the proposal stands without it (:func:`send_walk_picture` never raises).
+proposal among every way of splitting the rent, with the band of prices it vouches for; it
+never shows anyone's answers (what it may show is argued in :mod:`bot.adapter.pictures`). It is an
+extra: anything going wrong here is logged and the proposal stands without it
+(:func:`send_walk_picture` never raises).
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ from dataclasses import dataclass
 from telegram import Bot
 
 from bot.adapter.pictures import picture_data, render_png
+from bot.rounds.caution import CAUTION
 from bot.rounds.engine import Engine
 
 log = logging.getLogger(__name__)
@@ -23,8 +25,9 @@ FILENAME = "walk.png"
 #: (core.telegram.org/bots/api#sendphoto).
 CAPTION_LIMIT = 1024
 CAPTION = (
-    "How the prices moved: each mark is a price list someone was asked about, in the "
-    "colour and shape of the room they chose. The suggested split is where the walk ended."
+    "Where the suggested split lies: the proposed price of each room, give or take the "
+    "tolerance, next to an even split. Your answers stay private: the picture shows none "
+    f"of them. {CAUTION}"
 )
 
 

@@ -17,6 +17,7 @@ from bot.rounds.errors import IllegalMove, InvalidSetup, NotAllowed, Refusal, Re
 from bot.rounds.events import Actor, Configure
 from bot.rounds.message_facts import round_facts
 from bot.rounds.messages import Action, Kind, Outgoing, Recipient
+from bot.rounds.names import person_name
 from bot.rounds.permissions import require_admin, require_member
 from bot.rounds.phases import RERUN_FROM, Phase, Step, transition
 from bot.rounds.records import AuditKind, RoundRecord, TimerKind
@@ -112,7 +113,7 @@ async def join(ctx: Context, record: RoundRecord, actor: Actor) -> None:
             f"all {rooms} places are taken; one member must leave before you can join",
             RefusalCode.NOT_ALLOWED,
         )
-    name = actor.display_name.strip() or f"member {len(members) + 1}"
+    name = person_name(actor.display_name) or f"member {len(members) + 1}"
     await ctx.tx.add_member(record.id, actor.user_id, name, ctx.now)
     await ctx.audit(record.id, AuditKind.JOINED, actor.user_id, name=name)
     await announce(ctx, record.id, Kind.MEMBER_JOINED)

@@ -18,6 +18,7 @@ from typing import Any
 
 from bot.rounds.errors import InvalidSetup
 from bot.rounds.money_text import shown
+from bot.rounds.names import room_name
 from bot.rounds.searches import Method
 from bot.rounds.setup_input import RentInput, SetupInput, TypedAmount, currency_decimals
 from solver import InvalidProblem, Problem, split_exactly
@@ -152,7 +153,12 @@ def check_rent(rent: RentInput, current: str | None, locale: str = "en") -> Mone
 
 
 def check_rooms(rooms: tuple[str, ...]) -> tuple[str, ...]:
-    """Room names: 2 to 10, each named, not too long, all different (ignoring case)."""
+    """Room names: 2 to 10, each named, not too long, all different (ignoring case).
+
+    Each name is checked character by character first (:func:`bot.rounds.names.room_name`):
+    a name that would break a table line or turn text around is refused.
+    """
+    rooms = tuple(room_name(name) for name in rooms)
     if not MIN_ROOMS <= len(rooms) <= MAX_ROOMS:
         raise InvalidSetup(
             f"a round needs {MIN_ROOMS} to {MAX_ROOMS} rooms, you gave {len(rooms)}; "
@@ -235,7 +241,7 @@ def _with_options(settings: RoundSettings, setup: SetupInput) -> RoundSettings:
 def mark_common(settings: RoundSettings, names: tuple[str, ...]) -> RoundSettings:
     """Take the named rooms out of the round (kept as common space); "none" lets them all."""
     every = settings.rooms + settings.common
-    wanted = [name for name in names if name]
+    wanted = [room_name(name) for name in names if name.strip()]
     if [w.casefold() for w in wanted] in (["none"], ["-"]):
         wanted = []
     by_fold = {room.casefold(): room for room in every}

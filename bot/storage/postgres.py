@@ -32,6 +32,7 @@ from typing import Any, Self
 
 import asyncpg  # type: ignore[import-untyped]
 
+from bot.adapter.redaction import redact, safe_address
 from bot.rounds.clock import Clock, system_clock
 from bot.rounds.errors import StorageFault, StorageUnavailable
 from bot.rounds.records import RoundRecord, TimerRecord
@@ -84,7 +85,8 @@ class PostgresStore:
         """Connect a pool and bring the schema up to date (one process at a time)."""
         if not is_postgres_dsn(dsn):
             raise StorageFault(
-                f"{dsn!r} is not a PostgreSQL address; use postgresql://user@host:port/database"
+                f"{safe_address(dsn)!r} is not a PostgreSQL address; "
+                "use postgresql://user@host:port/database"
             )
         try:
             pool = await asyncpg.create_pool(
@@ -95,7 +97,8 @@ class PostgresStore:
             )
         except TRANSIENT_ERRORS as error:
             raise StorageUnavailable(
-                f"cannot reach PostgreSQL at {_safe(dsn)}: {error}; check that the server runs "
+                f"cannot reach PostgreSQL at {safe_address(dsn)}: {redact(str(error))}; "
+                "check that the server runs "
                 "and FLATPACT_DATABASE names the right host, port and database"
             ) from error
         store = cls(pool)
@@ -267,13 +270,3 @@ def _discard(conn: Any) -> None:
     """Close a broken pooled connection at once; the pool opens a fresh one when needed."""
     with contextlib.suppress(asyncpg.exceptions.InterfaceError):  # pool already closed it
         conn.terminate()
-
-
-def _safe(dsn: str) -> str:
-    """The DSN without its password, for messages and logs."""
-    scheme, sep, rest = dsn.partition("://")
-    credentials, at, host = rest.rpartition("@")
-    if not at:
-        return dsn
-    user = credentials.split(":", 1)[0]
-    return f"{scheme}{sep}{user}@{host}"
