@@ -5,7 +5,7 @@ Method. Each *stage* works at one mesh ``N`` of the price grid (see
 University of Michigan, 1972; M. J. Todd, "The Computation of Fixed Points and Applications",
 1976, ch. 5): a prism ``simplex x [0, 1]`` is triangulated; level 0 carries artificial labels
 that point at a *target* price vector and have exactly one fully labelled cell
-(:mod:`solver.labelling`), level 1 carries the members' answers, asked on demand. A *door* is
+(:mod:`solver.labelling`), level 1 carries the members' answers, asked as needed. A *door* is
 a facet of a prism cell whose ``n`` vertices carry all ``n`` room labels. The walk enters the
 prism through the unique door of level 0 and repeatedly leaves the current cell through its
 other door (every cell has zero or two doors; the new vertex duplicates exactly one label,

@@ -35,6 +35,7 @@ from bot.rounds.events import (
 from bot.rounds.messages import Kind, Outgoing, RefusalFacts
 from bot.rounds.names import person_name
 from bot.rounds.setup_input import (
+    SKIP_WORDS,
     SetupInput,
     parse_adjust_line,
     parse_amount_list,
@@ -221,14 +222,24 @@ async def leave(update: Update, context: AnyContext) -> None:
     await run_and_report(update, context, Leave(update_key(update), chat.id, actor_of(user)))
 
 
+PRIVATE_TEXT_HELP = (
+    "Here I only read rough values per room (for example: 700, 450, 600), and only before "
+    "the questions start. Questions come with buttons; /help says the rest."
+)
+
+
 async def private_text(update: Update, context: AnyContext) -> None:
     """A plain message in the private chat: rough values per room (or "skip")."""
     message, chat, user = update.effective_message, update.effective_chat, update.effective_user
     if message is None or chat is None or user is None or chat.type != ChatType.PRIVATE:
         return
+    text = message.text or ""
+    if not any(c.isdigit() for c in text) and text.strip().casefold() not in SKIP_WORDS:
+        await _reply(update, PRIVATE_TEXT_HELP)
+        return
     locale = pick_locale(user.language_code, runtime_of(context).settings.locale)
     try:
-        amounts = parse_amount_list(message.text or "", what="rough value", locale=locale)
+        amounts = parse_amount_list(text, what="rough value", locale=locale)
     except InvalidSetup as bad:
         await _reply(update, f"Not done: {bad}.")
         return

@@ -178,7 +178,7 @@ def _zoom(
     inset.set_aspect("equal")
     inset.set_xticks([])
     inset.set_yticks([])
-    inset.set_title("around the proposal, enlarged", fontsize=8)
+    inset.set_title("close-up of the split", fontsize=8)
 
 
 def _price_bars(data: PictureData, currency: str, decimals: int) -> Figure:

@@ -228,9 +228,9 @@ class Household:
             self.standin.world.user_opens_private_chat(mate.user, payload)
 
     async def give_rough_values(self, mate: Flatmate) -> bool:
-        """Answer the private invitation to give rough values, if the mind wants to."""
-        text = await mate.mind.rough_values(mate.name, self.rooms)
-        if text is None or not mate.user.opened_private_chat:
+        """Answer the private invitation to give rough values, if the mind wants to; a reply
+        the bot could not use ("Not done: ...") is followed by another try."""
+        if not mate.user.opened_private_chat:
             return False
         world = self.standin.world
         chat = world.private_chat_of(mate.user)
@@ -247,8 +247,27 @@ class Household:
 
         invitation = await self.standin.wait_for(invited, timeout=self.patience)
         mate.seen.add((invitation.chat.id, invitation.message_id))
-        world.user_says(mate.user, chat, text)
-        return True
+        while True:
+            text = await mate.mind.rough_values(mate.name, self.rooms)
+            if text is None:
+                return False
+            said = world.user_says(mate.user, chat, text)
+
+            def reply(after: int = said.message_id) -> SimMessage | None:
+                return next(
+                    (
+                        m
+                        for m in world.messages_in(chat)
+                        if m.from_bot
+                        and m.message_id > after
+                        and (m.text or "").startswith(("Noted", "Not done"))
+                    ),
+                    None,
+                )
+
+            answer = await self.standin.wait_for(reply, timeout=self.patience)
+            if (answer.text or "").startswith("Noted"):
+                return True
 
     async def wait_for_join_button(self) -> SimMessage:
         """The newest group message that offers the join button."""

@@ -159,20 +159,10 @@ class _Round:
         for mate in self.household.flatmates:
             await self.household.join(mate, opened)
         await self._until(lambda s: len(s.round.members) == len(rooms), "everyone has joined")
-        given = [await self.household.give_rough_values(m) for m in self.household.flatmates]
-        await self._noted(sum(given))
+        if self.options.rough:
+            for mate in self.household.flatmates:
+                await self.household.give_rough_values(mate)
         world.user_says(self.admin.user, self.group, "/begin")
-
-    async def _noted(self, count: int) -> None:
-        """Wait until the bot has noted ``count`` flatmates' rough values (privately)."""
-        world = self.standin.world
-
-        def noted() -> bool | None:
-            done = [m for m in world.messages if m.from_bot and (m.text or "").startswith("Noted")]
-            return True if len(done) >= count else None
-
-        if count:
-            await self.standin.wait_for(noted, timeout=self.options.patience)
 
     async def _until(self, done: _Check, what: str) -> StatusFacts:
         """Wait (on world changes) until the stored round satisfies ``done``."""

@@ -346,14 +346,15 @@ def parse_amount(text: str, *, what: str, locale: str = "en") -> TypedAmount:
 #: Between amounts in a list: a semicolon, a new line, a slash, or a comma before a space (a
 #: comma right between digits is part of a number: 1,200 or 12,5).
 _LIST_SEPARATOR = re.compile(r";|\n|/|,\s+")
-_SKIP_WORDS = frozenset({"skip", "none", "no", "-", "clear"})
+#: Replies that take rough values back (or decline to give any).
+SKIP_WORDS = frozenset({"skip", "none", "no", "-", "clear"})
 
 
 def parse_amount_list(
     text: str, *, what: str, locale: str = "en"
 ) -> tuple[TypedAmount, ...] | None:
     """``700, 450, 600`` -> three amounts; ``skip`` -> None (take back what was given)."""
-    if text.strip().casefold() in _SKIP_WORDS:
+    if text.strip().casefold() in SKIP_WORDS:
         return None
     pieces = [piece.strip() for piece in _LIST_SEPARATOR.split(text.strip())]
     if not all(pieces):
