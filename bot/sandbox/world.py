@@ -165,6 +165,16 @@ class World:
         text = "/start" if payload is None else f"/start {payload}"
         return self.user_says(user, self.private_chat_of(user), text)
 
+    def deliver_again(self, message: SimMessage) -> None:
+        """Telegram sends the update of this message once more (same update_id)."""
+        for update_id, update in self.updates.history.items():
+            sent = update.get("message")
+            if sent and sent["chat"]["id"] == message.chat.id:
+                if sent["message_id"] == message.message_id:
+                    self.updates.add_again(update_id)
+                    return
+        raise SandboxError(f"message {message.message_id} never reached the bot as an update")
+
     def user_says(self, user: SimUser, chat: SimChat, text: str) -> SimMessage:
         """The user sends text; the bot receives it if Telegram would deliver it (privacy mode)."""
         self._require_can_speak(user, chat)

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import asyncio
 import json
-from collections.abc import Sequence
+from collections.abc import Awaitable, Callable, Sequence
 from dataclasses import dataclass, field
 from decimal import Decimal
 from pathlib import Path
@@ -84,6 +84,10 @@ class Flat:
     rent: int
     pressed: set[tuple[int, int, int, str]] = field(default_factory=set)
     answers: int = 0
+    #: runs right after each press is queued, before the bot has seen it (e.g. an upgrade)
+    on_press: Callable[[], None] | None = None
+    #: runs after every step of play_until_settled (invariant checks)
+    after_step: Callable[[], Awaitable[None]] | None = None
 
     @property
     def admin(self) -> SimUser:
@@ -163,6 +167,8 @@ class Flat:
     async def press(self, person: SimUser, message: SimMessage, data: str) -> None:
         self.pressed.add((person.id, message.chat.id, message.message_id, data))
         record = self.standin.world.user_presses(person, message, data)
+        if self.on_press is not None:
+            self.on_press()
         await self.standin.wait_for(lambda: record.answered, timeout=10)
 
     async def answer(self, person: SimUser, message: SimMessage) -> None:
@@ -231,6 +237,8 @@ class Flat:
 
         while True:
             step = await self.standin.wait_for(next_step, timeout)
+            if self.after_step is not None:
+                await self.after_step()
             if step[0] == "settled":
                 return step[1]  # type: ignore[no-any-return]
             if step[0] == "stop":
