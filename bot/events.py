@@ -43,6 +43,8 @@ class Configure:
     per_person: str | None = None
     common: Sequence[str] | str | None = None
     empty_allowed: bool | None = None
+    #: a new round (``/newround``): refused if the group already has one past drafting
+    fresh: bool = False
 
 
 @dataclass(frozen=True, slots=True)

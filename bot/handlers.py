@@ -138,7 +138,14 @@ def parse_setup(text: str) -> tuple[str, str, dict[str, str]]:
 
 
 def configure_event(
-    key: str, group_id: int, actor: Actor, rent: str | None, rooms: str | None, o: dict[str, str]
+    key: str,
+    group_id: int,
+    actor: Actor,
+    rent: str | None,
+    rooms: str | None,
+    o: dict[str, str],
+    *,
+    fresh: bool = False,
 ) -> Configure:
     """The set-up event for typed options (the switch is read here, amounts by the engine)."""
     empty = o.get("empty rooms")
@@ -159,6 +166,7 @@ def configure_event(
         per_person=o.get("per person"),
         common=o.get("not let"),
         empty_allowed=empty_allowed,
+        fresh=fresh,
     )
 
 
@@ -177,7 +185,7 @@ async def set_up_round(
     actor = actor_of(user, is_chat_admin=await is_chat_admin(context, chat, user))
     try:
         configure = configure_event(
-            update_key(update, "set"), chat.id, actor, rent, rooms, options or {}
+            update_key(update, "set"), chat.id, actor, rent, rooms, options or {}, fresh=True
         )
     except SetupSyntax as bad:
         await _reply(update, f"Not done: {bad}.")

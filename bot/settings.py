@@ -377,7 +377,11 @@ def _has_code(text: str) -> bool:
 
 def _split_currency(text: str, currency: str | None) -> tuple[str, str]:
     words = text.strip().split()
-    codes = [w for w in words if re.fullmatch(r"[A-Za-z]{3}", w)]
+    three_letters = [w for w in words if re.fullmatch(r"[A-Za-z]{3}", w)]
+    # A word is the currency when it is one; any other word stays with the amount, so
+    # "abc EUR" is a bad amount, not a second currency. A lone unknown code is named as such.
+    known = [w for w in three_letters if w.upper() in list_currencies()]
+    codes = known or (three_letters if len(three_letters) == 1 else [])
     amount = " ".join(w for w in words if w not in codes)
     if len(codes) > 1:
         raise InvalidSetup("give one currency code with the rent, e.g. 1850.00 EUR")
