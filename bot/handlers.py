@@ -347,7 +347,13 @@ async def start_private(update: Update, context: AnyContext) -> None:
     _, _, user = found
     runtime = runtime_of(context)
     async with runtime.store.transaction() as tx:
-        await tx.add_contact(user.id, user.language_code, runtime.clock())
+        # Telegram may send the same update again: greet and release once per update.
+        first_time = not await tx.seen_event(update_key(update))
+        if first_time:
+            await tx.add_contact(user.id, user.language_code, runtime.clock())
+            await tx.mark_event(update_key(update), runtime.clock())
+    if not first_time:
+        return
     released = await runtime.delivery.release(user.id)
     args = context.args or []
     came_from_round = bool(args) and group_of_payload(args[0]) is not None
