@@ -18,7 +18,7 @@ from __future__ import annotations
 
 import json
 
-from bot import asking, deadlines, earlier, lifecycle
+from bot import asking, deadlines, earlier, group_moves, lifecycle
 from bot.clock import Clock
 from bot.context import Context, EngineConfig, WalkCache
 from bot.errors import NotAllowed, Refusal, StaleAction
@@ -149,7 +149,7 @@ async def _dispatch(ctx: Context, event: Event) -> None:
     elif isinstance(event, Delivered):
         await _delivered(ctx, event)
     elif isinstance(event, MoveGroup):
-        await ctx.tx.move_group(event.old_group_id, event.new_group_id)
+        await group_moves.move_group(ctx, event)
     else:
         await deadlines.fire_due(ctx)
 

@@ -1,0 +1,39 @@
+"""A group upgraded to a supergroup: its rounds, and only its own messages, follow it.
+
+Telegram gives the group a new chat id; the old id answers every call with
+``migrate_to_chat_id``. The move is keyed by the *group's* old id and does nothing unless some
+round was held in that chat: a private chat (a person's id) never has rounds, so a move named
+after one can never carry a person's private messages into a group.
+
+Messages already shown in the old chat stay there. The group's progress message is posted
+once more in the new chat (marked :data:`BOARD_REPOST`), so later progress edits land where
+people now look.
+"""
+
+from __future__ import annotations
+
+from bot.context import Context
+from bot.events import MoveGroup
+from bot.facts import round_facts
+from bot.messages import Kind, Outgoing, Recipient
+from bot.phases import Phase
+
+#: ``ref`` of the progress message re-posted in the new chat after an upgrade.
+BOARD_REPOST = "board-repost"
+#: Phases in which the group has a progress message worth following the group.
+_WITH_BOARD = (Phase.ASKING, Phase.PROPOSED)
+
+
+async def move_group(ctx: Context, event: MoveGroup) -> None:
+    """Move the group's rounds and unsent group messages; nothing if no round was held there."""
+    old, new = event.old_group_id, event.new_group_id
+    latest = await ctx.tx.latest_round(old)
+    if latest is None or old == new:
+        return  # not a chat we ever held a round in (e.g. a private chat): nothing to move
+    await ctx.tx.move_group(old, new)
+    record = await ctx.tx.round_by_id(latest.id)
+    assert record is not None
+    if record.phase in _WITH_BOARD:
+        members = await ctx.tx.members(record.id)
+        facts = round_facts(record, members)
+        ctx.send(Outgoing(Recipient.group(new), Kind.ASKING_STARTED, facts, ref=BOARD_REPOST))
