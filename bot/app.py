@@ -15,7 +15,6 @@ from typing import Any
 
 from telegram import BotCommand, Update
 from telegram.ext import (
-    AIORateLimiter,
     Application,
     CallbackQueryHandler,
     CommandHandler,
@@ -29,11 +28,13 @@ from bot.config import Settings
 from bot.context import EngineConfig
 from bot.delivery import Delivery
 from bot.engine import Engine
+from bot.group_pace import GroupPacedRateLimiter
 from bot.guided_setup import guided_setup_handler
 from bot.keyboards import CALLBACK_PREFIX
 from bot.runtime import RUNTIME_KEY, AnyApp, Runtime, retry_outbox_job, runtime_of
 from bot.store_factory import open_store
 from bot.texts import COMMANDS
+from bot.update_order import OnePerChat
 
 log = logging.getLogger(__name__)
 #: Flood control: retry a 429 this many times, waiting retry_after each time.
@@ -49,11 +50,13 @@ def build_application(settings: Settings, *, clock: Clock = system_clock) -> Any
         Application.builder()
         .token(settings.bot_token.get_secret_value())
         .rate_limiter(
-            AIORateLimiter(
-                group_max_rate=settings.group_messages_per_minute, max_retries=FLOOD_RETRIES
+            GroupPacedRateLimiter(
+                max(1, int(settings.group_messages_per_minute)), max_retries=FLOOD_RETRIES
             )
         )
+        .concurrent_updates(OnePerChat())
         .post_init(_post_init)
+        .post_stop(_post_stop)
         .post_shutdown(_post_shutdown)
     )
     if settings.base_url:
@@ -94,9 +97,16 @@ async def _post_init(app: AnyApp) -> None:
     store = await open_store(settings.database, clock=clock)
     engine = Engine(store, clock=clock, config=EngineConfig(token_secret=settings.token_secret()))
     delivery = Delivery(
-        app.bot, store, engine, clock, settings.locale, app.bot.username or "flatpact_bot"
+        app.bot,
+        store,
+        engine,
+        clock,
+        settings.locale,
+        app.bot.username or "flatpact_bot",
+        board_edit_every=settings.board_edit_every,
     )
     runtime = Runtime(settings, store, engine, delivery, clock, app.job_queue)
+    delivery.on_paused = runtime.retry_soon
     app.bot_data[RUNTIME_KEY] = runtime
     await app.bot.set_my_commands([BotCommand(name, text) for name, text in COMMANDS])
     await runtime.schedule_timers()
@@ -104,8 +114,14 @@ async def _post_init(app: AnyApp) -> None:
         app.job_queue.run_repeating(
             retry_outbox_job, interval=settings.retry_every, name="flatpact-outbox"
         )
-    if not await delivery.flush():
-        runtime.retry_soon()
+    await delivery.send_soon()
+
+
+async def _post_stop(app: AnyApp) -> None:
+    """Stop sending before the bot's connection closes; unsent messages stay in the outbox."""
+    runtime = app.bot_data.get(RUNTIME_KEY)
+    if isinstance(runtime, Runtime):
+        await runtime.delivery.close()
 
 
 async def _post_shutdown(app: AnyApp) -> None:
@@ -167,6 +183,8 @@ async def running(
         finally:
             await app.updater.stop()
             await app.stop()
+            if app.post_stop is not None:
+                await app.post_stop(app)
     finally:
         await app.shutdown()
         if app.post_shutdown is not None:

@@ -10,8 +10,16 @@ send returns. What Telegram makes of a failure decides what happens next:
 * ``Forbidden`` for a private chat means the person never opened a chat with the bot (or
   blocked it): the message is *held* and the group is told, with a deep link; ``/start``
   releases the person's held messages;
-* ``ChatMigrated`` moves the group's rounds to the supergroup id and sends again;
+* ``ChatMigrated`` from a group (a send, an edit of its progress message or proposal) moves
+  that group's rounds to the supergroup id and sends again; it is always attributed to the
+  group, never to the private chat whose message was being delivered;
 * "message is not modified" is a success.
+
+Each chat has its own sender (:mod:`bot.chat_senders`): a chat's messages go out in order,
+different chats side by side, so a group that must wait (flood control, the per-group minute
+of :mod:`bot.group_pace`) never holds up anyone else. Asking for a send never waits for it.
+The group's progress message is rewritten through :mod:`bot.board_edits`: at most one edit
+per group every few seconds, the last one showing the latest state.
 
 A proposal sent to a group is followed by a picture of the walk (:mod:`bot.walk_picture`);
 that picture is an extra and its failure never holds up the outbox.
@@ -30,10 +38,13 @@ from dataclasses import dataclass, replace
 from telegram import Bot, InlineKeyboardMarkup, Message
 from telegram.error import BadRequest, ChatMigrated, Forbidden, NetworkError, RetryAfter
 
+from bot.board_edits import BOARD_EDIT_EVERY, CoalescedEdits
+from bot.chat_senders import ChatSenders
 from bot.clock import Clock
 from bot.documents import send_agreement
 from bot.engine import Engine
 from bot.events import Delivered, MoveGroup
+from bot.group_moves import BOARD_REPOST
 from bot.keyboards import deep_link, join_payload, keyboard
 from bot.messages import DivisionFacts, Kind, Outgoing, ProgressFacts, QuestionFacts, RoundFacts
 from bot.outbox_codec import decode
@@ -73,30 +84,56 @@ class Delivery:
     locale: str
     bot_username: str
     on_flushed: Callable[[], None] | None = None
+    #: seconds between two edits of one group's progress message
+    board_edit_every: float = BOARD_EDIT_EVERY
+    #: called when a chat's sending had to pause (the runtime schedules a retry)
+    on_paused: Callable[[], None] | None = None
 
     def __post_init__(self) -> None:
         self._lock = asyncio.Lock()
         self._noticed: set[tuple[int, int]] = set()
+        self._senders = ChatSenders(self._send_chat)
+        self._boards = CoalescedEdits(self._rewrite_board, self.board_edit_every)
+        self._moved: dict[int, int] = {}
+
+    async def send_soon(self) -> None:
+        """Start a sender for every chat with pending messages; does not wait for the sends."""
+        async with self.store.transaction() as tx:
+            rows = await tx.outgoing(OutboxState.PENDING)
+        self._senders.start(dict.fromkeys(row.chat_id for row in rows))
 
     async def flush(self) -> bool:
-        """Send everything pending, oldest first; False if something must wait for later."""
-        async with self._lock:
+        """Send everything pending and wait for it; False if something must wait for later."""
+        await self.send_soon()
+        return await self._senders.wait()
+
+    async def close(self) -> None:
+        """Stop sending (at shutdown); whatever is unsent stays in the outbox."""
+        await self._boards.close()
+        await self._senders.close()
+
+    async def _send_chat(self, chat_id: int) -> bool:
+        """One chat's pending messages, oldest first; False if sending must pause."""
+        async with self.store.transaction() as tx:
+            rows = await tx.outgoing(OutboxState.PENDING, chat_id=chat_id)
+        for row in rows:
+            if chat_id in self._moved:  # the group moved: its new chat's sender takes over
+                return True
+            now = self.clock()
             async with self.store.transaction() as tx:
-                rows = await tx.outgoing(OutboxState.PENDING)
-            for row in rows:
-                now = self.clock()
+                claimed = await tx.claim_outgoing(row.id, now, now - STALE_CLAIM_SECONDS)
+            if not claimed:  # another sender or bot process is sending it
+                continue
+            try:
+                await self._deliver(row)
+            except SendLater as reason:
                 async with self.store.transaction() as tx:
-                    claimed = await tx.claim_outgoing(row.id, now, now - STALE_CLAIM_SECONDS)
-                if not claimed:  # another bot process is sending it
-                    continue
-                try:
-                    await self._deliver(row)
-                except SendLater as reason:
-                    async with self.store.transaction() as tx:
-                        await tx.release_claim(row.id)
-                    log.warning("sending paused, will retry: %s", reason)
-                    return False
-            return True
+                    await tx.release_claim(row.id)
+                log.warning("sending paused, will retry: %s", reason)
+                if self.on_paused is not None:
+                    self.on_paused()
+                return False
+        return True
 
     async def release(self, user_id: int) -> int:
         """The person opened a private chat: their held messages become pending again."""
@@ -116,6 +153,10 @@ class Delivery:
         try:
             sent_id = await self._send(row, message)
         except ChatMigrated as moved:
+            if message.to.private:  # a private chat never migrates: never move anything for it
+                log.error("outbox message %s: private chat answered 'migrated'", row.id)
+                await self._set_state(row, OutboxState.DROPPED, None)
+                return
             await self._migrate(row.chat_id, moved.new_chat_id)
             message = replace(message, to=replace(message.to, chat_id=moved.new_chat_id))
             sent_id = await self._send(row, message)
@@ -161,6 +202,8 @@ class Delivery:
                 return None
         if message.kind is Kind.AGREEMENT:
             return await send_agreement(self.bot, message, await self._locale_for(message))
+        if message.kind is Kind.ASKING_STARTED and message.ref == BOARD_REPOST:
+            return await self._repost_board(message)
         locale = await self._locale_for(message)
         need = await self._need_private_chat(message)
         link = self._group_link(message) if need or message.kind is Kind.JOINING_OPEN else None
@@ -204,6 +247,10 @@ class Delivery:
         return edited
 
     async def refresh_board(self, round_id: int) -> None:
+        """Ask for the group's progress message to show today's progress (coalesced)."""
+        self._boards.request(round_id)
+
+    async def _rewrite_board(self, round_id: int) -> None:
         """Rewrite the group's "questions are on their way" message with today's progress."""
         status = await self.engine.status(round_id=round_id)
         if status is None:
@@ -217,6 +264,17 @@ class Delivery:
             await self._edit(group, posted.message_id, board(status, self.locale), None)
         except BadRequest as bad:
             log.info("progress line not updated: %s", bad)
+        except ChatMigrated as moved:  # the *group* moved; its re-posted line comes next
+            await self._migrate(group, moved.new_chat_id)
+
+    async def _repost_board(self, message: Outgoing) -> int | None:
+        """The progress message, once more, in the chat the group moved to."""
+        facts = message.facts
+        assert isinstance(facts, RoundFacts)
+        status = await self.engine.status(round_id=facts.round_id)
+        text = render(message, self.locale) if status is None else board(status, self.locale)
+        sent = await self.bot.send_message(message.to.chat_id, fit(text))
+        return sent.message_id
 
     async def _update_proposal(self, message: Outgoing) -> None:
         """Show the acceptance count on the proposal itself; remove its buttons once settled."""
@@ -236,6 +294,8 @@ class Delivery:
             await self._edit(message.to.chat_id, posted.message_id, text, markup)
         except BadRequest as bad:
             log.info("proposal not updated: %s", bad)
+        except ChatMigrated as moved:
+            await self._migrate(message.to.chat_id, moved.new_chat_id)
         await self.refresh_board(facts.round_id)
 
     async def _edit(
@@ -256,9 +316,17 @@ class Delivery:
 
     # --- failures ----------------------------------------------------------------------------
 
-    async def _migrate(self, old: int, new: int) -> None:
-        """The group became a supergroup: move its rounds and unsent messages to the new id."""
-        await self.engine.handle(MoveGroup(f"migrate:{old}:{new}", old, new))
+    async def _migrate(self, old_group: int, new_group: int) -> None:
+        """The group became a supergroup: move its rounds and unsent messages to the new id.
+
+        ``old_group`` is always the chat that answered "migrated" (a group); the engine
+        moves nothing unless a round was held there.
+        """
+        self._moved[old_group] = new_group
+        await self.engine.handle(
+            MoveGroup(f"migrate:{old_group}:{new_group}", old_group, new_group)
+        )
+        await self.send_soon()
 
     async def _forbidden(self, row: OutboxRecord, message: Outgoing, reason: str) -> None:
         if not message.to.private:
@@ -278,6 +346,8 @@ class Delivery:
         text = needs_private_chat(names.get(row.chat_id, "Someone"), link)
         try:
             await self.bot.send_message(group, text)
+        except ChatMigrated as moved:
+            await self._migrate(group, moved.new_chat_id)
         except (BadRequest, Forbidden, NetworkError) as trouble:
             log.warning("could not post the private-chat notice: %s", trouble)
 

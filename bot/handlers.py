@@ -364,8 +364,7 @@ async def start_private(update: Update, context: AnyContext) -> None:
     else:
         text = "Hello! Add me to your flat's group chat and send /help there to see what I do."
     await _reply(update, text)
-    if not await runtime.delivery.flush():
-        runtime.retry_soon()
+    await runtime.delivery.send_soon()
 
 
 # --- buttons ---------------------------------------------------------------------------------
@@ -380,12 +379,18 @@ async def press(update: Update, context: AnyContext) -> None:
     if token is None:
         await query.answer("This button is not one of mine, so nothing happened.", show_alert=True)
         return
-    out = await runtime_of(context).handle(Press(f"cb{query.id}", actor_of(query.from_user), token))
+    runtime = runtime_of(context)
+    # Answer as soon as the press is stored (one short transaction), before anything is sent:
+    # Telegram gives up on an unanswered press after a few seconds. The sends follow.
+    out = await runtime.record(Press(f"cb{query.id}", actor_of(query.from_user), token))
     refused = [m.facts for m in out if isinstance(m.facts, RefusalFacts)]
-    if refused:
-        await query.answer(fit(refusal(refused[0]), CALLBACK_TEXT_LIMIT), show_alert=True)
-    else:
-        await query.answer(_press_feedback(out))
+    try:
+        if refused:
+            await query.answer(fit(refusal(refused[0]), CALLBACK_TEXT_LIMIT), show_alert=True)
+        else:
+            await query.answer(_press_feedback(out))
+    finally:
+        await runtime.delivery.send_soon()
 
 
 def _press_feedback(out: list[Outgoing]) -> str:

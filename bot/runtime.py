@@ -40,11 +40,16 @@ class Runtime:
     scheduled: set[int] = field(default_factory=set)
 
     async def handle(self, event: Event) -> list[Outgoing]:
-        """Engine (commits state and outbox together), then timers, then send the outbox."""
+        """Engine (commits state and outbox together), then timers; sending starts, unawaited."""
+        out = await self.record(event)
+        await self.delivery.send_soon()
+        return out
+
+    async def record(self, event: Event) -> list[Outgoing]:
+        """Only the engine's one short transaction and the timers, nothing sent yet: a button
+        press is answered right after this, and its messages follow from the outbox."""
         out = await self.engine.handle(event)
         await self.schedule_timers()
-        if not await self.delivery.flush():
-            self.retry_soon()
         return out
 
     async def schedule_timers(self) -> None:
@@ -85,11 +90,9 @@ async def _fire_timer(context: AnyContext) -> None:
 
 
 async def _retry_outbox(context: AnyContext) -> None:
-    runtime = runtime_of(context)
-    if not await runtime.delivery.flush():
-        runtime.retry_soon()
+    await runtime_of(context).delivery.send_soon()
 
 
 async def retry_outbox_job(context: AnyContext) -> None:
     """The periodic safety net: whatever is still pending gets another try."""
-    await runtime_of(context).delivery.flush()
+    await runtime_of(context).delivery.send_soon()

@@ -59,8 +59,8 @@ class UpdateQueue:
     def add(self, kind: str, payload: dict[str, Any]) -> dict[str, Any]:
         """Queue one update and wake the long poll."""
         update = {"update_id": self._next_id, kind: payload}
+        self.history[self._next_id] = update
         self._next_id += 1
-        self.history[update["update_id"]] = update
         self.pending.append(update)
         self._notifier.notify()
         return update

@@ -169,10 +169,12 @@ class World:
         """Telegram sends the update of this message once more (same update_id)."""
         for update_id, update in self.updates.history.items():
             sent = update.get("message")
-            if sent and sent["chat"]["id"] == message.chat.id:
-                if sent["message_id"] == message.message_id:
-                    self.updates.add_again(update_id)
-                    return
+            if sent and (sent["chat"]["id"], sent["message_id"]) == (
+                message.chat.id,
+                message.message_id,
+            ):
+                self.updates.add_again(update_id)
+                return
         raise SandboxError(f"message {message.message_id} never reached the bot as an update")
 
     def user_says(self, user: SimUser, chat: SimChat, text: str) -> SimMessage:

@@ -80,11 +80,16 @@ async def test_presses_are_answered_while_the_group_is_slow(
     async with running(app_for(standin, db_path)):
         await set_up_and_join(flat, "2000.00 EUR", "20")
         await flat.play_until_settled(stop_when_group_sees="Suggested split")
-        proposal = next(m for m in world.messages_in(flat.group) if m.from_bot and m.buttons())
-        agree = next(
-            b.callback_data for row in proposal.buttons() for b in row if b.text == "Agree"
-        )
-        assert agree is not None
+
+        def agree_button() -> tuple[SimMessage, str] | None:
+            for message in world.messages_in(flat.group):
+                for row in message.buttons():
+                    for button in row:
+                        if button.text == "Agree" and button.callback_data:
+                            return message, button.callback_data
+            return None
+
+        proposal, agree = await standin.wait_for(agree_button)
         standin.hold_chat(flat.group.id)  # every send or edit to the group now waits
         presses = [world.user_presses(person, proposal, agree) for person in flat.people]
         # Four members press at once: each press is answered although the group edits wait.

@@ -73,7 +73,11 @@ async def test_upgrade_at_every_step_of_a_seeded_round(tmp_path: Path, clock: Ma
             engine = Engine(store, clock=clock, config=config)
 
             async def step(
-                play: Rehearsal, event: Event, out: list[Outgoing], at: int = upgrade_at
+                play: Rehearsal,
+                event: Event,
+                out: list[Outgoing],
+                at: int = upgrade_at,
+                engine: Engine = engine,
             ) -> None:
                 if play.events == at + 1 and play.group_id == GROUP:
                     await engine.handle(MoveGroup(f"migrate:{GROUP}", GROUP, SUPERGROUP))
