@@ -71,8 +71,10 @@ class CoalescedEdits:
         while self._tasks:
             await asyncio.gather(*list(self._tasks.values()))
 
-    async def close(self) -> None:
-        """Drop pending rewrites (at shutdown)."""
+    async def close(self, *, finish: bool = False) -> None:
+        """Stop the rewrite tasks (at shutdown); with ``finish``, rewrite what is pending now,
+        once each, without waiting for the interval."""
+        pending = set(self._tasks) | self._stale
         tasks = list(self._tasks.values())
         for task in tasks:
             task.cancel()
@@ -80,3 +82,9 @@ class CoalescedEdits:
             with contextlib.suppress(asyncio.CancelledError):
                 await task
         self._tasks.clear()
+        self._stale.clear()
+        for key in sorted(pending) if finish else ():
+            try:
+                await self._rewrite(key)
+            except Exception:
+                log.exception("progress message %s not rewritten at shutdown", key)

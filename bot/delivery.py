@@ -67,6 +67,8 @@ NOT_MODIFIED = "message is not modified"
 
 #: A message claimed for sending this long ago was lost with its process: send it again.
 STALE_CLAIM_SECONDS = 120
+#: At shutdown, how long the senders may go on to finish what they are sending.
+SHUTDOWN_GRACE_SECONDS = 5.0
 
 
 class SendLater(Exception):
@@ -108,7 +110,13 @@ class Delivery:
         return await self._senders.wait()
 
     async def close(self) -> None:
-        """Stop sending (at shutdown); whatever is unsent stays in the outbox."""
+        """At shutdown: finish what is being sent (a few seconds at most), then stop; whatever
+        is still unsent stays in the outbox for the next start."""
+        try:
+            await asyncio.wait_for(self._senders.wait(), SHUTDOWN_GRACE_SECONDS)
+            await asyncio.wait_for(self._boards.close(finish=True), SHUTDOWN_GRACE_SECONDS)
+        except TimeoutError:
+            log.warning("stopping with messages still unsent; they go out at the next start")
         await self._boards.close()
         await self._senders.close()
 
