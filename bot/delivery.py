@@ -44,7 +44,7 @@ from bot.clock import Clock
 from bot.documents import send_agreement
 from bot.engine import Engine
 from bot.events import Delivered, MoveGroup
-from bot.group_moves import BOARD_REPOST
+from bot.group_moves import REPOST
 from bot.keyboards import deep_link, join_payload, keyboard
 from bot.messages import DivisionFacts, Kind, Outgoing, ProgressFacts, QuestionFacts, RoundFacts
 from bot.outbox_codec import decode
@@ -190,6 +190,7 @@ class Delivery:
             and isinstance(facts, DivisionFacts)
             and not message.to.private
             and sent_id is not None
+            and message.ref != REPOST  # the picture was shown with the first post
         ):
             # An extra after the proposal is safely sent; it never raises.
             await send_walk_picture(self.bot, self.store, message.to.chat_id, facts.round_id)
@@ -210,7 +211,7 @@ class Delivery:
                 return None
         if message.kind is Kind.AGREEMENT:
             return await send_agreement(self.bot, message, await self._locale_for(message))
-        if message.kind is Kind.ASKING_STARTED and message.ref == BOARD_REPOST:
+        if message.kind is Kind.ASKING_STARTED and message.ref == REPOST:
             return await self._repost_board(message)
         locale = await self._locale_for(message)
         need = await self._need_private_chat(message)

@@ -5,21 +5,22 @@ Telegram gives the group a new chat id; the old id answers every call with
 round was held in that chat: a private chat (a person's id) never has rounds, so a move named
 after one can never carry a person's private messages into a group.
 
-Messages already shown in the old chat stay there. The group's progress message is posted
-once more in the new chat (marked :data:`BOARD_REPOST`), so later progress edits land where
-people now look.
+Messages already shown in the old chat stay there. What the group still needs is posted once
+more in the new chat, marked :data:`REPOST`: an open proposal (with fresh buttons, so members
+can still agree) and the progress message, so later edits land where people now look.
 """
 
 from __future__ import annotations
 
+from bot.asking import issue_choice
 from bot.context import Context
 from bot.events import MoveGroup
-from bot.facts import round_facts
-from bot.messages import Kind, Outgoing, Recipient
+from bot.facts import division_facts, round_facts
+from bot.messages import Action, Kind, Outgoing, Recipient
 from bot.phases import Phase
 
-#: ``ref`` of the progress message re-posted in the new chat after an upgrade.
-BOARD_REPOST = "board-repost"
+#: ``ref`` of a message re-posted in the new chat after an upgrade.
+REPOST = "repost-after-upgrade"
 #: Phases in which the group has a progress message worth following the group.
 _WITH_BOARD = (Phase.ASKING, Phase.PROPOSED)
 
@@ -33,7 +34,17 @@ async def move_group(ctx: Context, event: MoveGroup) -> None:
     await ctx.tx.move_group(old, new)
     record = await ctx.tx.round_by_id(latest.id)
     assert record is not None
-    if record.phase in _WITH_BOARD:
-        members = await ctx.tx.members(record.id)
-        facts = round_facts(record, members)
-        ctx.send(Outgoing(Recipient.group(new), Kind.ASKING_STARTED, facts, ref=BOARD_REPOST))
+    if record.phase not in _WITH_BOARD:
+        return
+    members = await ctx.tx.members(record.id)
+    proposal = ctx.walk(record).proposal()
+    if record.phase is Phase.PROPOSED and proposal is not None:
+        number = str(record.proposal_no)
+        choices = (
+            await issue_choice(ctx, record.id, Action.ACCEPT, number),
+            await issue_choice(ctx, record.id, Action.OBJECT, number),
+        )
+        facts = division_facts(record, members, proposal, record.proposal_no)
+        ctx.send(Outgoing(Recipient.group(new), Kind.PROPOSAL, facts, choices, ref=REPOST))
+    board = round_facts(record, members)
+    ctx.send(Outgoing(Recipient.group(new), Kind.ASKING_STARTED, board, ref=REPOST))

@@ -237,6 +237,10 @@ class Flat:
 
         while True:
             step = await self.standin.wait_for(next_step, timeout)
+            # The promise people rely on most, checked after every step of every seeded run.
+            from tests.adapter.privacy import assert_private_stays_private
+
+            await assert_private_stays_private(self.standin, self.db_path)
             if self.after_step is not None:
                 await self.after_step()
             if step[0] == "settled":
