@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import asyncio
 import json
+import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from types import TracebackType
@@ -48,6 +49,8 @@ class ApiCall:
     params: dict[str, Any]
     status: int = 200
     violations: list[str] = field(default_factory=list)
+    #: ``time.perf_counter()`` when the call arrived (benchmarks)
+    at: float = field(default_factory=time.perf_counter)
 
 
 class BotApiStandIn:

@@ -10,7 +10,7 @@ import asyncio
 import re
 import time
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, TypeVar
 
 from bot.sandbox.errors import SandboxError
@@ -37,6 +37,9 @@ class CallbackRecord:
     answered: bool = False
     answer_text: str | None = None
     show_alert: bool = False
+    #: ``time.perf_counter()`` when the press was queued and when it was answered (benchmarks)
+    pressed_at: float = field(default_factory=time.perf_counter)
+    answered_at: float | None = None
 
 
 def command_entities(text: str) -> list[dict[str, Any]]:
