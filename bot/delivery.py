@@ -32,7 +32,8 @@ from __future__ import annotations
 
 import asyncio
 import logging
-from collections.abc import Callable
+from collections.abc import AsyncIterator, Callable
+from contextlib import asynccontextmanager
 from dataclasses import dataclass, replace
 
 from telegram import Bot, InlineKeyboardMarkup, Message
@@ -49,7 +50,7 @@ from bot.keyboards import deep_link, join_payload, keyboard
 from bot.messages import DivisionFacts, Kind, Outgoing, ProgressFacts, QuestionFacts, RoundFacts
 from bot.outbox_codec import decode
 from bot.records import OutboxRecord, OutboxState
-from bot.store import Store
+from bot.store import Store, Transaction
 from bot.texts import (
     answered_question,
     board,
@@ -67,6 +68,8 @@ NOT_MODIFIED = "message is not modified"
 
 #: A message claimed for sending this long ago was lost with its process: send it again.
 STALE_CLAIM_SECONDS = 120
+#: Delivery transactions waiting for the store at once (events get the turns in between).
+DELIVERY_TRANSACTIONS_AT_ONCE = 2
 #: At shutdown, how long the senders may go on to finish what they are sending.
 SHUTDOWN_GRACE_SECONDS = 5.0
 
@@ -97,10 +100,18 @@ class Delivery:
         self._senders = ChatSenders(self._send_chat)
         self._boards = CoalescedEdits(self._rewrite_board, self.board_edit_every)
         self._moved: dict[int, int] = {}
+        self._turn = asyncio.Semaphore(DELIVERY_TRANSACTIONS_AT_ONCE)
+
+    @asynccontextmanager
+    async def _transaction(self) -> AsyncIterator[Transaction]:
+        """A store transaction for delivery's bookkeeping. Only a few of them wait for the
+        store at once, so an event (a press to answer) never queues behind a crowd of them."""
+        async with self._turn, self.store.transaction() as tx:
+            yield tx
 
     async def send_soon(self) -> None:
         """Start a sender for every chat with pending messages; does not wait for the sends."""
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             rows = await tx.outgoing(OutboxState.PENDING)
         self._senders.start(dict.fromkeys(row.chat_id for row in rows))
 
@@ -122,20 +133,20 @@ class Delivery:
 
     async def _send_chat(self, chat_id: int) -> bool:
         """One chat's pending messages, oldest first; False if sending must pause."""
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             rows = await tx.outgoing(OutboxState.PENDING, chat_id=chat_id)
         for row in rows:
             if chat_id in self._moved:  # the group moved: its new chat's sender takes over
                 return True
             now = self.clock()
-            async with self.store.transaction() as tx:
+            async with self._transaction() as tx:
                 claimed = await tx.claim_outgoing(row.id, now, now - STALE_CLAIM_SECONDS)
             if not claimed:  # another sender or bot process is sending it
                 continue
             try:
                 await self._deliver(row)
             except SendLater as reason:
-                async with self.store.transaction() as tx:
+                async with self._transaction() as tx:
                     await tx.release_claim(row.id)
                 log.warning("sending paused, will retry: %s", reason)
                 if self.on_paused is not None:
@@ -146,7 +157,7 @@ class Delivery:
     async def release(self, user_id: int) -> int:
         """The person opened a private chat: their held messages become pending again."""
         async with self._lock:
-            async with self.store.transaction() as tx:
+            async with self._transaction() as tx:
                 held = await tx.outgoing(OutboxState.HELD, chat_id=user_id)
                 for row in held:
                     await tx.set_outgoing_state(row.id, OutboxState.PENDING, self.clock())
@@ -183,7 +194,8 @@ class Delivery:
             raise SendLater(f"network: {trouble}") from trouble
         await self._set_state(row, OutboxState.SENT, sent_id)
         if message.kind is Kind.QUESTION and message.ref and sent_id is not None:
-            await self.engine.handle(Delivered(f"delivered:{row.id}", message.ref, sent_id))
+            async with self._turn:
+                await self.engine.handle(Delivered(f"delivered:{row.id}", message.ref, sent_id))
         facts = message.facts
         if (
             message.kind is Kind.PROPOSAL
@@ -196,7 +208,7 @@ class Delivery:
             await send_walk_picture(self.bot, self.store, message.to.chat_id, facts.round_id)
 
     async def _set_state(self, row: OutboxRecord, state: str, message_id: int | None) -> None:
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             await tx.set_outgoing_state(row.id, state, self.clock(), message_id)
 
     async def _send(self, row: OutboxRecord, message: Outgoing) -> int | None:
@@ -224,7 +236,7 @@ class Delivery:
     async def _withdraw_question(self, message: Outgoing, facts: ProgressFacts) -> int | None:
         """Edit a no-longer-needed question in place (buttons gone); never a new message."""
         chat_id = message.to.chat_id
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             asked = await tx.last_sent(
                 chat_id, [Kind.QUESTION.value, Kind.REMINDER.value], ref=facts.question_ref
             )
@@ -238,7 +250,7 @@ class Delivery:
     async def _acknowledge_answer(self, message: Outgoing, facts: ProgressFacts) -> int | None:
         """Edit the answered question in place (buttons gone), then refresh the group board."""
         chat_id = message.to.chat_id
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             asked = await tx.last_sent(
                 chat_id, [Kind.QUESTION.value, Kind.REMINDER.value], ref=facts.question_ref
             )
@@ -261,11 +273,12 @@ class Delivery:
 
     async def _rewrite_board(self, round_id: int) -> None:
         """Rewrite the group's "questions are on their way" message with today's progress."""
-        status = await self.engine.status(round_id=round_id)
+        async with self._turn:
+            status = await self.engine.status(round_id=round_id)
         if status is None:
             return
         group = status.round.group_id
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             posted = await tx.last_sent(group, [Kind.ASKING_STARTED.value], round_id=round_id)
         if posted is None or posted.message_id is None:
             return
@@ -280,7 +293,8 @@ class Delivery:
         """The progress message, once more, in the chat the group moved to."""
         facts = message.facts
         assert isinstance(facts, RoundFacts)
-        status = await self.engine.status(round_id=facts.round_id)
+        async with self._turn:
+            status = await self.engine.status(round_id=facts.round_id)
         text = render(message, self.locale) if status is None else board(status, self.locale)
         sent = await self.bot.send_message(message.to.chat_id, fit(text))
         return sent.message_id
@@ -289,7 +303,7 @@ class Delivery:
         """Show the acceptance count on the proposal itself; remove its buttons once settled."""
         facts = message.facts
         assert isinstance(facts, DivisionFacts)
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             posted = await tx.last_sent(
                 message.to.chat_id, [Kind.PROPOSAL.value], round_id=facts.round_id
             )
@@ -365,7 +379,7 @@ class Delivery:
     async def _locale_for(self, message: Outgoing) -> str:
         if not message.to.private:
             return self.locale
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             known = await tx.contacts([message.to.chat_id])
         return pick_locale(known.get(message.to.chat_id), self.locale)
 
@@ -374,7 +388,7 @@ class Delivery:
         facts = message.facts
         if message.to.private or not isinstance(facts, RoundFacts) or not facts.member_ids:
             return ()
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             known = await tx.contacts(list(facts.member_ids))
         return tuple(
             name

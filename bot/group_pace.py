@@ -24,6 +24,9 @@ JSONDict = dict[str, Any]
 #: Common practice (see the module docstring): messages and edits per group per minute.
 GROUP_MESSAGES_PER_MINUTE = 20
 MINUTE = 60.0
+#: Calls that leave a minute apart may arrive a little closer together (network, server
+#: queues); the limiter's minute is this much longer so Telegram's minute is never overfull.
+TRANSPORT_SLACK = 1.0
 #: Bot API methods that show something in a chat, so they count against its minute.
 COUNTED_METHODS = frozenset(
     name.lower()
@@ -108,7 +111,7 @@ class GroupPacedRateLimiter(AIORateLimiter):
     ) -> None:
         # group_max_rate=0 switches PTB's own per-group bucket off: the minute below replaces it.
         super().__init__(group_max_rate=0, max_retries=max_retries)
-        self.minute = SlidingMinute(per_group_minute)
+        self.minute = SlidingMinute(per_group_minute, MINUTE + TRANSPORT_SLACK)
 
     async def process_request(
         self,

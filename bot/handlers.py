@@ -390,7 +390,7 @@ async def press(update: Update, context: AnyContext) -> None:
         else:
             await query.answer(_press_feedback(out))
     finally:
-        await runtime.delivery.send_soon()
+        await runtime.after_event()
 
 
 def _press_feedback(out: list[Outgoing]) -> str:

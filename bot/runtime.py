@@ -42,15 +42,18 @@ class Runtime:
     async def handle(self, event: Event) -> list[Outgoing]:
         """Engine (commits state and outbox together), then timers; sending starts, unawaited."""
         out = await self.record(event)
-        await self.delivery.send_soon()
+        await self.after_event()
         return out
 
     async def record(self, event: Event) -> list[Outgoing]:
-        """Only the engine's one short transaction and the timers, nothing sent yet: a button
-        press is answered right after this, and its messages follow from the outbox."""
-        out = await self.engine.handle(event)
+        """Only the engine's one short transaction, nothing sent yet: a button press is
+        answered right after this, then :meth:`after_event` starts its messages."""
+        return await self.engine.handle(event)
+
+    async def after_event(self) -> None:
+        """Schedule new timers and start sending the outbox (without waiting for the sends)."""
         await self.schedule_timers()
-        return out
+        await self.delivery.send_soon()
 
     async def schedule_timers(self) -> None:
         """A job per stored timer not yet scheduled; rebuilt from the database at start-up."""
