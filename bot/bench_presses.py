@@ -36,6 +36,10 @@ from solver.simulate import Tenant, random_tenants
 ROUND_TIMEOUT = 600.0
 
 
+#: query id -> what was pressed ("join", "answer", "agree"), for the breakdown
+KINDS: dict[str, str] = {}
+
+
 async def one_flat(
     standin: BotApiStandIn, group: SimChat, people: list[SimUser], tenants: dict[str, Tenant]
 ) -> None:
@@ -45,7 +49,7 @@ async def one_flat(
     rooms = ", ".join(ROOMS[: len(people)])
     world.user_says(people[0], group, f"/newround {rent / 100:.2f} EUR; {rooms}")
     opened = await _wait_button(standin, group, "Count me in")
-    await _all_press(standin, people, *opened)
+    await _all_press(standin, people, *opened, kind="join")
     await _wait_text(standin, group, "Every room has a member")
     world.user_says(people[0], group, "/begin")
     done: set[tuple[int, int]] = set()
@@ -60,14 +64,15 @@ async def one_flat(
     while True:
         person, message, data = await standin.wait_for(next_step, timeout=ROUND_TIMEOUT)
         if person is None:  # the proposal: everyone agrees at once
-            await _all_press(standin, people, message, data)
+            await _all_press(standin, people, message, data, kind="agree")
             await _wait_text(standin, group, "Everyone agreed")
             return
         done.add((message.chat.id, message.message_id))
         labels = {b.text: b.callback_data for row in message.buttons() for b in row}
         choices = [i for i, room in enumerate(ROOMS) if f"I'd take {room}" in labels]
         room = tenants[str(person.id)].choose(_prices(message), choices, 0)
-        world.user_presses(person, message, labels[f"I'd take {ROOMS[room]}"] or "")
+        pressed = world.user_presses(person, message, labels[f"I'd take {ROOMS[room]}"] or "")
+        KINDS[pressed.query_id] = "answer"
 
 
 def _open_question(
@@ -103,10 +108,11 @@ async def _wait_text(standin: BotApiStandIn, group: SimChat, fragment: str) -> N
 
 
 async def _all_press(
-    standin: BotApiStandIn, people: list[SimUser], message: SimMessage, data: str
+    standin: BotApiStandIn, people: list[SimUser], message: SimMessage, data: str, *, kind: str
 ) -> None:
     """Every member presses the same button in the same instant; wait for all the answers."""
     presses = [standin.world.user_presses(person, message, data) for person in people]
+    KINDS.update((p.query_id, kind) for p in presses)
     await standin.wait_for(lambda: all(p.answered for p in presses), ROUND_TIMEOUT)
 
 
@@ -146,6 +152,17 @@ async def run(groups: int, members: int, per_minute: float, seed: int) -> tuple[
         latencies = [
             c.answered_at - c.pressed_at for c in world.callbacks.values() if c.answered_at
         ]
+        for label in ("join", "answer", "agree"):
+            kind = [
+                c.answered_at - c.pressed_at
+                for c in world.callbacks.values()
+                if c.answered_at and KINDS.get(c.query_id) == label
+            ]
+            if kind:
+                print(
+                    f"  {label}: {len(kind)} presses, p50 {statistics.median(kind) * 1000:.0f} "
+                    f"ms, p99 {percentile(kind, 0.99) * 1000:.0f} ms"
+                )
         unanswered = sum(1 for c in world.callbacks.values() if not c.answered)
         if unanswered:
             raise SystemExit(f"{unanswered} presses were never answered")

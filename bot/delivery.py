@@ -32,7 +32,7 @@ from __future__ import annotations
 
 import asyncio
 import logging
-from collections.abc import AsyncIterator, Callable
+from collections.abc import AsyncIterator, Callable, Iterable
 from contextlib import asynccontextmanager
 from dataclasses import dataclass, replace
 
@@ -109,11 +109,14 @@ class Delivery:
         async with self._turn, self.store.transaction() as tx:
             yield tx
 
-    async def send_soon(self) -> None:
-        """Start a sender for every chat with pending messages; does not wait for the sends."""
-        async with self._transaction() as tx:
-            rows = await tx.outgoing(OutboxState.PENDING)
-        self._senders.start(dict.fromkeys(row.chat_id for row in rows))
+    async def send_soon(self, chat_ids: Iterable[int] | None = None) -> None:
+        """Start a sender for these chats (default: every chat with pending messages); does
+        not wait for the sends."""
+        if chat_ids is None:
+            async with self._transaction() as tx:
+                rows = await tx.outgoing(OutboxState.PENDING)
+            chat_ids = dict.fromkeys(row.chat_id for row in rows)
+        self._senders.start(chat_ids)
 
     async def flush(self) -> bool:
         """Send everything pending and wait for it; False if something must wait for later."""

@@ -123,8 +123,15 @@ class GroupPacedRateLimiter(AIORateLimiter):
         rate_limit_args: int | None,
     ) -> bool | JSONDict | list[JSONDict]:
         group = group_of(data)
-        if group is not None and endpoint.lower() in COUNTED_METHODS:
+        if group is None or endpoint.lower() not in COUNTED_METHODS:
+            return await super().process_request(
+                callback, args, kwargs, endpoint, data, rate_limit_args
+            )
+
+        async def paced(*call_args: Any, **call_kwargs: Any) -> bool | JSONDict | list[JSONDict]:
+            # The slot is taken last, after PTB's overall limiter, right before the request
+            # leaves: waiting there first would let calls arrive closer than a minute apart.
             await self.minute.take(group)
-        return await super().process_request(
-            callback, args, kwargs, endpoint, data, rate_limit_args
-        )
+            return await callback(*call_args, **call_kwargs)
+
+        return await super().process_request(paced, args, kwargs, endpoint, data, rate_limit_args)

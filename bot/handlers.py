@@ -381,7 +381,8 @@ async def press(update: Update, context: AnyContext) -> None:
         return
     runtime = runtime_of(context)
     # Answer as soon as the press is stored (one short transaction), before anything is sent:
-    # Telegram gives up on an unanswered press after a few seconds. The sends follow.
+    # Telegram gives up on an unanswered press after a few seconds. The sends follow, in the
+    # background, so the chat's next update need not wait for them either.
     out = await runtime.record(Press(f"cb{query.id}", actor_of(query.from_user), token))
     refused = [m.facts for m in out if isinstance(m.facts, RefusalFacts)]
     try:
@@ -390,7 +391,7 @@ async def press(update: Update, context: AnyContext) -> None:
         else:
             await query.answer(_press_feedback(out))
     finally:
-        await runtime.after_event()
+        context.application.create_task(runtime.after_event(out), update=update)
 
 
 def _press_feedback(out: list[Outgoing]) -> str:

@@ -42,7 +42,7 @@ class Runtime:
     async def handle(self, event: Event) -> list[Outgoing]:
         """Engine (commits state and outbox together), then timers; sending starts, unawaited."""
         out = await self.record(event)
-        await self.after_event()
+        await self.after_event(out)
         return out
 
     async def record(self, event: Event) -> list[Outgoing]:
@@ -50,10 +50,10 @@ class Runtime:
         answered right after this, then :meth:`after_event` starts its messages."""
         return await self.engine.handle(event)
 
-    async def after_event(self) -> None:
-        """Schedule new timers and start sending the outbox (without waiting for the sends)."""
+    async def after_event(self, out: list[Outgoing]) -> None:
+        """Schedule new timers and start sending the event's messages (never waits for them)."""
         await self.schedule_timers()
-        await self.delivery.send_soon()
+        await self.delivery.send_soon({m.to.chat_id: None for m in out})
 
     async def schedule_timers(self) -> None:
         """A job per stored timer not yet scheduled; rebuilt from the database at start-up."""
