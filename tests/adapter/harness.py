@@ -235,14 +235,15 @@ class Flat:
             proposal = self._open_proposal()
             return ("agree", *proposal) if proposal else None
 
-        while True:
-            step = await self.standin.wait_for(next_step, timeout)
-            # The promise people rely on most, checked after every step of every seeded run.
-            from tests.adapter.privacy import assert_private_stays_private
+        from tests.adapter.privacy import assert_private_stays_private
 
+        while True:
+            # The promise people rely on most, checked after every step of every seeded run
+            # (before looking for the next step, so nothing changes between finding and acting).
             await assert_private_stays_private(self.standin, self.db_path)
             if self.after_step is not None:
                 await self.after_step()
+            step = await self.standin.wait_for(next_step, timeout)
             if step[0] == "settled":
                 return step[1]  # type: ignore[no-any-return]
             if step[0] == "stop":
