@@ -118,7 +118,7 @@ async def _post_init(app: AnyApp) -> None:
 
 
 async def _post_stop(app: AnyApp) -> None:
-    """Stop sending before the bot's connection closes; unsent messages stay in the outbox."""
+    """Let sending finish (a few seconds at most) while the bot can still talk to Telegram."""
     runtime = app.bot_data.get(RUNTIME_KEY)
     if isinstance(runtime, Runtime):
         await runtime.delivery.close()

@@ -5,8 +5,8 @@ sends the pending ones and marks each as sent (with its Telegram message id) rig
 send returns. What Telegram makes of a failure decides what happens next:
 
 * flood control (``RetryAfter``) is retried by PTB's ``AIORateLimiter``; if it persists, and
-  on network errors, the message stays pending and the next flush (after every event and on a
-  timer) sends it;
+  on network errors, the message stays pending and that chat's sending pauses; a retry soon
+  after (and a periodic timer) sends it;
 * ``Forbidden`` for a private chat means the person never opened a chat with the bot (or
   blocked it): the message is *held* and the group is told, with a deep link; ``/start``
   releases the person's held messages;
