@@ -9,6 +9,7 @@ calls in windows and never measure real time.
 from __future__ import annotations
 
 import asyncio
+import itertools
 from typing import Any
 
 from telegram import Chat, Update, User
@@ -140,7 +141,7 @@ async def test_progress_edits_are_coalesced_and_end_with_the_latest_state() -> N
     await edits.wait()
     assert shown[0] == (0.0, 1)  # the first change shows at once
     assert shown[-1][1] == 20  # the last edit shows the latest state
-    gaps = [b[0] - a[0] for a, b in zip(shown, shown[1:], strict=False)]
+    gaps = [b[0] - a[0] for a, b in itertools.pairwise(shown)]
     assert gaps and min(gaps) >= 3.0  # at most one edit every 3 s
     assert len(shown) == 5  # at 0, 3, 6, 9 s and the last one: five edits for twenty answers
 
