@@ -16,8 +16,9 @@ from bot.clock import ManualClock
 from bot.context import EngineConfig
 from bot.engine import Engine
 from bot.events import Event, MoveGroup
+from bot.group_moves import REPOST
 from bot.invariants import check_dump, check_private_stays_private
-from bot.messages import Kind, Outgoing
+from bot.messages import Action, Kind, Outgoing
 from bot.phases import Phase
 from bot.rehearsal import Rehearsal
 from bot.sqlite_store import SqliteStore
@@ -96,3 +97,34 @@ async def test_upgrade_at_every_step_of_a_seeded_round(tmp_path: Path, clock: Ma
         assert facts.lines == expected.lines, f"upgrade after step {upgrade_at}"
         assert [(row[1], row[3]) for row in dump["rounds"]] == [(SUPERGROUP, Phase.SETTLED.value)]
         assert all(chat == person for chat, person in private_rows(dump))
+
+
+async def test_a_moved_group_gets_its_progress_message_and_open_proposal_again(
+    tmp_path: Path, clock: ManualClock
+) -> None:
+    members = people(2)
+    config = EngineConfig(token_secret=SECRET)
+    async with await SqliteStore.open(tmp_path / "f.sqlite3", clock=clock) as store:
+        engine = Engine(store, clock=clock, config=config)
+        asked: list[list[Outgoing]] = []
+
+        async def move_once_proposed(play: Rehearsal, event: Event, out: list[Outgoing]) -> None:
+            if any(m.kind is Kind.PROPOSAL for m in out) and not asked:
+                asked.append(await engine.handle(MoveGroup("m", GROUP, SUPERGROUP)))
+                play.group_id = SUPERGROUP
+
+        play = Rehearsal(
+            engine,
+            GROUP,
+            members[0],
+            members,
+            tenants_for(members, 3),
+            after_step=move_once_proposed,
+        )
+        await play.play(await play.set_up(RENT_TEXT, ROOMS[:2]))
+    [moved] = asked
+    assert [(m.kind, m.to.chat_id, m.ref) for m in moved] == [
+        (Kind.PROPOSAL, SUPERGROUP, REPOST),
+        (Kind.ASKING_STARTED, SUPERGROUP, REPOST),
+    ]
+    assert {c.action for c in moved[0].choices} == {Action.ACCEPT, Action.OBJECT}
