@@ -4,8 +4,12 @@ PTB handles updates one by one unless ``concurrent_updates`` is set; then they a
 once. Flatpact needs the middle: a busy group must not hold up anyone else, but within a chat
 order matters (``/newround`` before ``/begin``; replies of the guided set-up, which PTB's
 ``ConversationHandler`` expects in order). This processor takes a lock per chat, so a chat's
-updates start in the order Telegram sent them and never overlap. Presses in different
-private chats of one group may overlap: the engine's transactions put them in one order.
+updates start in the order Telegram sent them and never overlap.
+
+Button presses take a lock of their own per chat: they are answered at once and must not
+queue behind a command whose reply waits for the group's message budget. Presses in
+different chats (the private chats of one group's members) may overlap: the engine's
+transactions put them in one order.
 """
 
 from __future__ import annotations
@@ -21,11 +25,15 @@ from telegram.ext import BaseUpdateProcessor
 MAX_CONCURRENT_UPDATES = 64
 
 
-def chat_of(update: object) -> int | None:
-    """The chat an update belongs to (a button press: the chat of its message)."""
-    if isinstance(update, Update) and update.effective_chat is not None:
-        return update.effective_chat.id
-    return None
+Lane = tuple[str, int | None]
+
+
+def lane_of(update: object) -> Lane:
+    """Which queue an update waits in: its chat's presses, or its chat's other updates."""
+    if not isinstance(update, Update):
+        return ("other", None)
+    chat = update.effective_chat.id if update.effective_chat is not None else None
+    return ("presses" if update.callback_query is not None else "messages", chat)
 
 
 class OnePerChat(BaseUpdateProcessor):
@@ -33,11 +41,11 @@ class OnePerChat(BaseUpdateProcessor):
 
     def __init__(self, max_concurrent_updates: int = MAX_CONCURRENT_UPDATES) -> None:
         super().__init__(max_concurrent_updates)
-        self._locks: dict[int | None, asyncio.Lock] = {}
-        self._users: dict[int | None, int] = {}
+        self._locks: dict[Lane, asyncio.Lock] = {}
+        self._users: dict[Lane, int] = {}
 
     async def do_process_update(self, update: object, coroutine: Awaitable[Any]) -> None:
-        key = chat_of(update)
+        key = lane_of(update)
         lock = self._locks.setdefault(key, asyncio.Lock())
         self._users[key] = self._users.get(key, 0) + 1
         try:

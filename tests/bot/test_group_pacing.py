@@ -146,16 +146,19 @@ async def test_progress_edits_are_coalesced_and_end_with_the_latest_state() -> N
     assert len(shown) == 5  # at 0, 3, 6, 9 s and the last one: five edits for twenty answers
 
 
-def _update(update_id: int, chat_id: int) -> Update:
+def _update(update_id: int, chat_id: int, *, press: bool = False) -> Update:
+    from telegram import CallbackQuery, Message
+
     chat = Chat(chat_id, Chat.GROUP if chat_id < 0 else Chat.PRIVATE)
     user = User(1, "Ines", False)
-    from telegram import Message
-
     message = Message(update_id, None, chat, from_user=user, text="/status")  # type: ignore[arg-type]
+    if press:
+        query = CallbackQuery(str(update_id), user, "instance", message=message, data="fp1:x")
+        return Update(update_id, callback_query=query)
     return Update(update_id, message=message)
 
 
-async def test_one_chat_in_order_other_chats_alongside() -> None:
+async def test_one_chat_in_order_other_chats_and_presses_alongside() -> None:
     processor = OnePerChat(8)
     log: list[str] = []
     slow_gate = asyncio.Event()
@@ -170,11 +173,15 @@ async def test_one_chat_in_order_other_chats_alongside() -> None:
         asyncio.create_task(processor.process_update(_update(1, -1), handle("A1", slow_gate))),
         asyncio.create_task(processor.process_update(_update(2, -1), handle("A2"))),
         asyncio.create_task(processor.process_update(_update(3, -2), handle("B1"))),
+        asyncio.create_task(
+            processor.process_update(_update(4, -1, press=True), handle("A-press"))
+        ),
     ]
     for _ in range(5):
         await asyncio.sleep(0)
-    # B's update ran to the end while A's first update still waits; A2 waits for A1.
-    assert log == ["start A1", "start B1", "end B1"]
+    # B's update, and a press in A, ran to the end while A's first update still waits;
+    # A's second update waits for A's first.
+    assert log == ["start A1", "start B1", "end B1", "start A-press", "end A-press"]
     slow_gate.set()
     await asyncio.gather(*tasks)
-    assert log[3:] == ["end A1", "start A2", "end A2"]
+    assert log[5:] == ["end A1", "start A2", "end A2"]
