@@ -15,7 +15,6 @@ from typing import Any
 
 from telegram import BotCommand, Update
 from telegram.ext import (
-    AIORateLimiter,
     Application,
     CallbackQueryHandler,
     CommandHandler,
@@ -25,11 +24,13 @@ from telegram.ext import (
 
 from bot.adapter import guarded_webhook, handlers
 from bot.adapter.delivery import Delivery
+from bot.adapter.group_pace import GroupPacedRateLimiter
 from bot.adapter.guided_setup import guided_setup_handler
 from bot.adapter.keyboards import CALLBACK_PREFIX
 from bot.adapter.process_settings import Settings
 from bot.adapter.runtime import RUNTIME_KEY, AnyApp, Runtime, retry_outbox_job, runtime_of
 from bot.adapter.texts import COMMANDS
+from bot.adapter.update_order import OnePerChat
 from bot.rounds.clock import Clock, system_clock
 from bot.rounds.context import EngineConfig
 from bot.rounds.engine import Engine
@@ -49,11 +50,13 @@ def build_application(settings: Settings, *, clock: Clock = system_clock) -> Any
         Application.builder()
         .token(settings.bot_token.get_secret_value())
         .rate_limiter(
-            AIORateLimiter(
-                group_max_rate=settings.group_messages_per_minute, max_retries=FLOOD_RETRIES
+            GroupPacedRateLimiter(
+                max(1, int(settings.group_messages_per_minute)), max_retries=FLOOD_RETRIES
             )
         )
+        .concurrent_updates(OnePerChat())
         .post_init(_post_init)
+        .post_stop(_post_stop)
         .post_shutdown(_post_shutdown)
     )
     if settings.base_url:
@@ -100,9 +103,16 @@ async def _post_init(app: AnyApp) -> None:
     store = await open_store(settings.database, clock=clock)
     engine = Engine(store, clock=clock, config=EngineConfig(token_secret=settings.token_secret()))
     delivery = Delivery(
-        app.bot, store, engine, clock, settings.locale, app.bot.username or "flatpact_bot"
+        app.bot,
+        store,
+        engine,
+        clock,
+        settings.locale,
+        app.bot.username or "flatpact_bot",
+        board_edit_every=settings.board_edit_every,
     )
     runtime = Runtime(settings, store, engine, delivery, clock, app.job_queue)
+    delivery.on_paused = runtime.retry_soon
     app.bot_data[RUNTIME_KEY] = runtime
     await app.bot.set_my_commands([BotCommand(name, text) for name, text in COMMANDS])
     await runtime.schedule_timers()
@@ -110,8 +120,14 @@ async def _post_init(app: AnyApp) -> None:
         app.job_queue.run_repeating(
             retry_outbox_job, interval=settings.retry_every, name="flatpact-outbox"
         )
-    if not await delivery.flush():
-        runtime.retry_soon()
+    await delivery.send_soon()
+
+
+async def _post_stop(app: AnyApp) -> None:
+    """Let sending finish (a few seconds at most) while the bot can still talk to Telegram."""
+    runtime = app.bot_data.get(RUNTIME_KEY)
+    if isinstance(runtime, Runtime):
+        await runtime.delivery.close()
 
 
 async def _post_shutdown(app: AnyApp) -> None:
@@ -176,6 +192,8 @@ async def running(
         finally:
             await (app.updater.stop() if endpoint is None else endpoint.stop())
             await app.stop()
+            if app.post_stop is not None:
+                await app.post_stop(app)
     finally:
         await app.shutdown()
         if app.post_shutdown is not None:

@@ -5,13 +5,21 @@ sends the pending ones and marks each as sent (with its Telegram message id) rig
 send returns. What Telegram makes of a failure decides what happens next:
 
 * flood control (``RetryAfter``) is retried by PTB's ``AIORateLimiter``; if it persists, and
-  on network errors, the message stays pending and the next flush (after every event and on a
-  timer) sends it;
+  on network errors, the message stays pending and that chat's sending pauses; a retry soon
+  after (and a periodic timer) sends it;
 * ``Forbidden`` for a private chat means the person never opened a chat with the bot (or
   blocked it): the message is *held* and the group is told, with a deep link; ``/start``
   releases the person's held messages;
-* ``ChatMigrated`` moves the group's rounds to the supergroup id and sends again;
+* ``ChatMigrated`` from a group (a send, an edit of its progress message or proposal) moves
+  that group's rounds to the supergroup id and sends again; it is always attributed to the
+  group, never to the private chat whose message was being delivered;
 * "message is not modified" is a success.
+
+Each chat has its own sender (:mod:`bot.adapter.chat_senders`): a chat's messages go out in order,
+different chats side by side, so a group that must wait (flood control, the per-group minute
+of :mod:`bot.adapter.group_pace`) never holds up anyone else. Asking for a send never waits for it.
+The group's progress message is rewritten through :mod:`bot.adapter.board_edits`: at most one edit
+per group every few seconds, the last one showing the latest state.
 
 A proposal sent to a group is followed by a picture of the walk (:mod:`bot.adapter.walk_picture`);
 that picture is an extra and its failure never holds up the outbox.
@@ -24,12 +32,15 @@ from __future__ import annotations
 
 import asyncio
 import logging
-from collections.abc import Callable
+from collections.abc import AsyncIterator, Callable, Iterable
+from contextlib import asynccontextmanager
 from dataclasses import dataclass, replace
 
 from telegram import Bot, InlineKeyboardMarkup, Message
 from telegram.error import BadRequest, ChatMigrated, Forbidden, NetworkError, RetryAfter
 
+from bot.adapter.board_edits import BOARD_EDIT_EVERY, CoalescedEdits
+from bot.adapter.chat_senders import ChatSenders
 from bot.adapter.documents import send_agreement
 from bot.adapter.keyboards import deep_link, join_payload, keyboard
 from bot.adapter.texts import (
@@ -45,6 +56,7 @@ from bot.adapter.walk_picture import send_walk_picture
 from bot.rounds.clock import Clock
 from bot.rounds.engine import Engine
 from bot.rounds.events import MoveGroup
+from bot.rounds.group_moves import REPOST
 from bot.rounds.messages import (
     DivisionFacts,
     Kind,
@@ -55,7 +67,7 @@ from bot.rounds.messages import (
 )
 from bot.rounds.outbox_codec import decode
 from bot.rounds.records import OutboxRecord, OutboxState
-from bot.rounds.store_port import Store
+from bot.rounds.store_port import Store, Transaction
 
 log = logging.getLogger(__name__)
 NOT_MODIFIED = "message is not modified"
@@ -63,6 +75,10 @@ NOT_MODIFIED = "message is not modified"
 
 #: A message claimed for sending this long ago was lost with its process: send it again.
 STALE_CLAIM_SECONDS = 120
+#: Delivery transactions waiting for the store at once (events get the turns in between).
+DELIVERY_TRANSACTIONS_AT_ONCE = 2
+#: At shutdown, how long the senders may go on to finish what they are sending.
+SHUTDOWN_GRACE_SECONDS = 5.0
 
 
 class SendLater(Exception):
@@ -80,35 +96,78 @@ class Delivery:
     locale: str
     bot_username: str
     on_flushed: Callable[[], None] | None = None
+    #: seconds between two edits of one group's progress message
+    board_edit_every: float = BOARD_EDIT_EVERY
+    #: called when a chat's sending had to pause (the runtime schedules a retry)
+    on_paused: Callable[[], None] | None = None
 
     def __post_init__(self) -> None:
         self._lock = asyncio.Lock()
         self._noticed: set[tuple[int, int]] = set()
+        self._senders = ChatSenders(self._send_chat)
+        self._boards = CoalescedEdits(self._rewrite_board, self.board_edit_every)
+        self._moved: dict[int, int] = {}
+        self._turn = asyncio.Semaphore(DELIVERY_TRANSACTIONS_AT_ONCE)
+
+    @asynccontextmanager
+    async def _transaction(self) -> AsyncIterator[Transaction]:
+        """A store transaction for delivery's bookkeeping. Only a few of them wait for the
+        store at once, so an event (a press to answer) never queues behind a crowd of them."""
+        async with self._turn, self.store.transaction() as tx:
+            yield tx
+
+    async def send_soon(self, chat_ids: Iterable[int] | None = None) -> None:
+        """Start a sender for these chats (default: every chat with pending messages); does
+        not wait for the sends."""
+        if chat_ids is None:
+            async with self._transaction() as tx:
+                rows = await tx.outgoing(OutboxState.PENDING)
+            chat_ids = dict.fromkeys(row.chat_id for row in rows)
+        self._senders.start(chat_ids)
 
     async def flush(self) -> bool:
-        """Send everything pending, oldest first; False if something must wait for later."""
-        async with self._lock:
-            async with self.store.transaction() as tx:
-                rows = await tx.outgoing(OutboxState.PENDING)
-            for row in rows:
-                now = self.clock()
-                async with self.store.transaction() as tx:
-                    claimed = await tx.claim_outgoing(row.id, now, now - STALE_CLAIM_SECONDS)
-                if not claimed:  # another bot process is sending it
-                    continue
-                try:
-                    await self._deliver(row)
-                except SendLater as reason:
-                    async with self.store.transaction() as tx:
-                        await tx.release_claim(row.id)
-                    log.warning("sending paused, will retry: %s", reason)
-                    return False
-            return True
+        """Send everything pending and wait for it; False if something must wait for later."""
+        await self.send_soon()
+        return await self._senders.wait()
+
+    async def close(self) -> None:
+        """At shutdown: finish what is being sent (a few seconds at most), then stop; whatever
+        is still unsent stays in the outbox for the next start."""
+        try:
+            await asyncio.wait_for(self._senders.wait(), SHUTDOWN_GRACE_SECONDS)
+            await asyncio.wait_for(self._boards.close(finish=True), SHUTDOWN_GRACE_SECONDS)
+        except TimeoutError:
+            log.warning("stopping with messages still unsent; they go out at the next start")
+        await self._boards.close()
+        await self._senders.close()
+
+    async def _send_chat(self, chat_id: int) -> bool:
+        """One chat's pending messages, oldest first; False if sending must pause."""
+        async with self._transaction() as tx:
+            rows = await tx.outgoing(OutboxState.PENDING, chat_id=chat_id)
+        for row in rows:
+            if chat_id in self._moved:  # the group moved: its new chat's sender takes over
+                return True
+            now = self.clock()
+            async with self._transaction() as tx:
+                claimed = await tx.claim_outgoing(row.id, now, now - STALE_CLAIM_SECONDS)
+            if not claimed:  # another sender or bot process is sending it
+                continue
+            try:
+                await self._deliver(row)
+            except SendLater as reason:
+                async with self._transaction() as tx:
+                    await tx.release_claim(row.id)
+                log.warning("sending paused, will retry: %s", reason)
+                if self.on_paused is not None:
+                    self.on_paused()
+                return False
+        return True
 
     async def release(self, user_id: int) -> int:
         """The person opened a private chat: their held messages become pending again."""
         async with self._lock:
-            async with self.store.transaction() as tx:
+            async with self._transaction() as tx:
                 held = await tx.outgoing(OutboxState.HELD, chat_id=user_id)
                 for row in held:
                     await tx.set_outgoing_state(row.id, OutboxState.PENDING, self.clock())
@@ -123,6 +182,10 @@ class Delivery:
         try:
             sent_id = await self._send(row, message)
         except ChatMigrated as moved:
+            if message.to.private:  # a private chat never migrates: never move anything for it
+                log.error("outbox message %s: private chat answered 'migrated'", row.id)
+                await self._set_state(row, OutboxState.DROPPED, None)
+                return
             await self._migrate(row.chat_id, moved.new_chat_id)
             message = replace(message, to=replace(message.to, chat_id=moved.new_chat_id))
             sent_id = await self._send(row, message)
@@ -146,12 +209,13 @@ class Delivery:
             and isinstance(facts, DivisionFacts)
             and not message.to.private
             and sent_id is not None
+            and message.ref != REPOST  # the picture was shown with the first post
         ):
             # An extra after the proposal is safely sent; it never raises.
             await send_walk_picture(self.bot, self.engine, message.to.chat_id, facts.round_id)
 
     async def _set_state(self, row: OutboxRecord, state: str, message_id: int | None) -> None:
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             await tx.set_outgoing_state(row.id, state, self.clock(), message_id)
 
     async def _send(self, row: OutboxRecord, message: Outgoing) -> int | None:
@@ -166,6 +230,8 @@ class Delivery:
                 return None
         if message.kind is Kind.AGREEMENT:
             return await send_agreement(self.bot, message, await self._locale_for(message))
+        if message.kind is Kind.ASKING_STARTED and message.ref == REPOST:
+            return await self._repost_board(message)
         locale = await self._locale_for(message)
         need = await self._need_private_chat(message)
         link = self._group_link(message) if need or message.kind is Kind.JOINING_OPEN else None
@@ -177,7 +243,7 @@ class Delivery:
     async def _withdraw_question(self, message: Outgoing, facts: ProgressFacts) -> int | None:
         """Edit a no-longer-needed question in place (buttons gone); never a new message."""
         chat_id = message.to.chat_id
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             asked = await tx.last_sent(
                 chat_id, [Kind.QUESTION.value, Kind.REMINDER.value], ref=facts.question_ref
             )
@@ -191,7 +257,7 @@ class Delivery:
     async def _acknowledge_answer(self, message: Outgoing, facts: ProgressFacts) -> int | None:
         """Edit the answered question in place (buttons gone), then refresh the group board."""
         chat_id = message.to.chat_id
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             asked = await tx.last_sent(
                 chat_id, [Kind.QUESTION.value, Kind.REMINDER.value], ref=facts.question_ref
             )
@@ -209,12 +275,17 @@ class Delivery:
         return edited
 
     async def refresh_board(self, round_id: int) -> None:
+        """Ask for the group's progress message to show today's progress (coalesced)."""
+        self._boards.request(round_id)
+
+    async def _rewrite_board(self, round_id: int) -> None:
         """Rewrite the group's "questions are on their way" message with today's progress."""
-        status = await self.engine.status(round_id=round_id)
+        async with self._turn:
+            status = await self.engine.status(round_id=round_id)
         if status is None:
             return
         group = status.round.group_id
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             posted = await tx.last_sent(group, [Kind.ASKING_STARTED.value], round_id=round_id)
         if posted is None or posted.message_id is None:
             return
@@ -222,12 +293,24 @@ class Delivery:
             await self._edit(group, posted.message_id, board(status, self.locale), None)
         except BadRequest as bad:
             log.info("progress line not updated: %s", bad)
+        except ChatMigrated as moved:  # the *group* moved; its re-posted line comes next
+            await self._migrate(group, moved.new_chat_id)
+
+    async def _repost_board(self, message: Outgoing) -> int | None:
+        """The progress message, once more, in the chat the group moved to."""
+        facts = message.facts
+        assert isinstance(facts, RoundFacts)
+        async with self._turn:
+            status = await self.engine.status(round_id=facts.round_id)
+        text = render(message, self.locale) if status is None else board(status, self.locale)
+        sent = await self.bot.send_message(message.to.chat_id, fit(text))
+        return sent.message_id
 
     async def _update_proposal(self, message: Outgoing) -> None:
         """Show the acceptance count on the proposal itself; remove its buttons once settled."""
         facts = message.facts
         assert isinstance(facts, DivisionFacts)
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             posted = await tx.last_sent(
                 message.to.chat_id, [Kind.PROPOSAL.value], round_id=facts.round_id
             )
@@ -241,6 +324,8 @@ class Delivery:
             await self._edit(message.to.chat_id, posted.message_id, text, markup)
         except BadRequest as bad:
             log.info("proposal not updated: %s", bad)
+        except ChatMigrated as moved:
+            await self._migrate(message.to.chat_id, moved.new_chat_id)
         await self.refresh_board(facts.round_id)
 
     async def _edit(
@@ -261,9 +346,17 @@ class Delivery:
 
     # --- failures ----------------------------------------------------------------------------
 
-    async def _migrate(self, old: int, new: int) -> None:
-        """The group became a supergroup: move its rounds and unsent messages to the new id."""
-        await self.engine.handle(MoveGroup(f"migrate:{old}:{new}", old, new))
+    async def _migrate(self, old_group: int, new_group: int) -> None:
+        """The group became a supergroup: move its rounds and unsent messages to the new id.
+
+        ``old_group`` is always the chat that answered "migrated" (a group); the engine
+        moves nothing unless a round was held there.
+        """
+        self._moved[old_group] = new_group
+        await self.engine.handle(
+            MoveGroup(f"migrate:{old_group}:{new_group}", old_group, new_group)
+        )
+        await self.send_soon()
 
     async def _forbidden(self, row: OutboxRecord, message: Outgoing, reason: str) -> None:
         if not message.to.private:
@@ -283,6 +376,8 @@ class Delivery:
         text = needs_private_chat(names.get(row.chat_id, "Someone"), link)
         try:
             await self.bot.send_message(group, text)
+        except ChatMigrated as moved:
+            await self._migrate(group, moved.new_chat_id)
         except (BadRequest, Forbidden, NetworkError) as trouble:
             log.warning("could not post the private-chat notice: %s", trouble)
 
@@ -291,7 +386,7 @@ class Delivery:
     async def _locale_for(self, message: Outgoing) -> str:
         if not message.to.private:
             return self.locale
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             known = await tx.contacts([message.to.chat_id])
         return pick_locale(known.get(message.to.chat_id), self.locale)
 
@@ -300,7 +395,7 @@ class Delivery:
         facts = message.facts
         if message.to.private or not isinstance(facts, RoundFacts) or not facts.member_ids:
             return ()
-        async with self.store.transaction() as tx:
+        async with self._transaction() as tx:
             known = await tx.contacts(list(facts.member_ids))
         return tuple(
             name

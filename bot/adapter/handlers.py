@@ -117,7 +117,7 @@ async def set_up_round(update: Update, context: AnyContext, setup: SetupInput) -
     await run_and_report(
         update,
         context,
-        Configure(update_key(update, "set"), chat.id, actor, setup),
+        Configure(update_key(update, "set"), chat.id, actor, setup, fresh=True),
         OpenJoining(update_key(update, "open"), chat.id, actor),
     )
 
@@ -292,7 +292,13 @@ async def start_private(update: Update, context: AnyContext) -> None:
     _, _, user = found
     runtime = runtime_of(context)
     async with runtime.store.transaction() as tx:
-        await tx.add_contact(user.id, user.language_code, runtime.clock())
+        # Telegram may send the same update again: greet and release once per update.
+        first_time = not await tx.seen_event(update_key(update))
+        if first_time:
+            await tx.add_contact(user.id, user.language_code, runtime.clock())
+            await tx.mark_event(update_key(update), runtime.clock())
+    if not first_time:
+        return
     released = await runtime.delivery.release(user.id)
     args = context.args or []
     came_from_round = bool(args) and group_of_payload(args[0]) is not None
@@ -303,8 +309,7 @@ async def start_private(update: Update, context: AnyContext) -> None:
     else:
         text = "Hello! Add me to your flat's group chat and send /help there to see what I do."
     await _reply(update, text)
-    if not await runtime.delivery.flush():
-        runtime.retry_soon()
+    await runtime.delivery.send_soon()
 
 
 # --- buttons ---------------------------------------------------------------------------------
@@ -319,12 +324,19 @@ async def press(update: Update, context: AnyContext) -> None:
     if token is None:
         await query.answer("This button is not one of mine, so nothing happened.", show_alert=True)
         return
-    out = await runtime_of(context).handle(Press(f"cb{query.id}", actor_of(query.from_user), token))
+    runtime = runtime_of(context)
+    # Answer as soon as the press is stored (one short transaction), before anything is sent:
+    # Telegram gives up on an unanswered press after a few seconds. The sends follow, in the
+    # background, so the chat's next update need not wait for them either.
+    out = await runtime.record(Press(f"cb{query.id}", actor_of(query.from_user), token))
     refused = [m.facts for m in out if isinstance(m.facts, RefusalFacts)]
-    if refused:
-        await query.answer(fit(refusal(refused[0]), CALLBACK_TEXT_LIMIT), show_alert=True)
-    else:
-        await query.answer(_press_feedback(out))
+    try:
+        if refused:
+            await query.answer(fit(refusal(refused[0]), CALLBACK_TEXT_LIMIT), show_alert=True)
+        else:
+            await query.answer(_press_feedback(out))
+    finally:
+        context.application.create_task(runtime.after_event(out), update=update)
 
 
 def _press_feedback(out: list[Outgoing]) -> str:

@@ -41,10 +41,13 @@ class Settings(BaseSettings):
     base_url: str | None = None
     base_file_url: str | None = None
     locale: str = "en"
-    #: Telegram's group limit is about 20 messages a minute (Bot FAQ; from memory). Tests raise it.
+    #: Messages and edits per group in any one minute: about 20 is Telegram's common-practice
+    #: group limit (Bot FAQ; from memory), see bot/adapter/group_pace.py. Tests raise it.
     group_messages_per_minute: float = Field(default=20, gt=0)
     #: Seconds between retries of messages that could not be sent (network trouble).
     retry_every: float = Field(default=30, gt=0)
+    #: Seconds between two edits of a group's progress message (coalesced, latest state last).
+    board_edit_every: float = Field(default=3, ge=0)
     button_secret: SecretStr | None = None
 
     @field_validator("bot_token")

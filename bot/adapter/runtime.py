@@ -40,12 +40,20 @@ class Runtime:
     scheduled: set[int] = field(default_factory=set)
 
     async def handle(self, event: Event) -> list[Outgoing]:
-        """Engine (commits state and outbox together), then timers, then send the outbox."""
-        out = await self.engine.handle(event)
-        await self.schedule_timers()
-        if not await self.delivery.flush():
-            self.retry_soon()
+        """Engine (commits state and outbox together), then timers; sending starts, unawaited."""
+        out = await self.record(event)
+        await self.after_event(out)
         return out
+
+    async def record(self, event: Event) -> list[Outgoing]:
+        """Only the engine's one short transaction, nothing sent yet: a button press is
+        answered right after this, then :meth:`after_event` starts its messages."""
+        return await self.engine.handle(event)
+
+    async def after_event(self, out: list[Outgoing]) -> None:
+        """Schedule new timers and start sending the event's messages (never waits for them)."""
+        await self.schedule_timers()
+        await self.delivery.send_soon({m.to.chat_id: None for m in out})
 
     async def schedule_timers(self) -> None:
         """A job per stored timer not yet scheduled; rebuilt from the database at start-up."""
@@ -87,11 +95,9 @@ async def _fire_timer(context: AnyContext) -> None:
 
 
 async def _retry_outbox(context: AnyContext) -> None:
-    runtime = runtime_of(context)
-    if not await runtime.delivery.flush():
-        runtime.retry_soon()
+    await runtime_of(context).delivery.send_soon()
 
 
 async def retry_outbox_job(context: AnyContext) -> None:
     """The periodic safety net: whatever is still pending gets another try."""
-    await runtime_of(context).delivery.flush()
+    await runtime_of(context).delivery.send_soon()

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import asyncio
 import re
-from collections.abc import Callable, Sequence
+from collections.abc import Awaitable, Callable, Sequence
 from dataclasses import dataclass, field
 from decimal import InvalidOperation
 from typing import Generic, Protocol, TypeVar
@@ -318,11 +318,18 @@ class Household:
             for mate in self.flatmates:
                 tasks.create_task(self._live(mate), name=f"flatmate-{mate.name}")
 
-    async def take_turns(self, done: Callable[[], T | None], *, timeout: float = 60.0) -> T:
+    async def take_turns(
+        self,
+        done: Callable[[], T | None],
+        *,
+        timeout: float = 60.0,
+        before_each: Callable[[], Awaitable[None]] | None = None,
+    ) -> T:
         """Flatmates act one at a time in a fixed order until ``done()`` returns something.
 
         Tests need repeatable runs: here the first flatmate (in household order) with
         something waiting acts, then everyone looks again. Between moves only the bot acts.
+        ``before_each`` runs before every look (tests check invariants there).
         """
 
         def next_move() -> Finished[T] | tuple[Flatmate, Step] | None:
@@ -336,6 +343,8 @@ class Household:
             return None
 
         while True:
+            if before_each is not None:
+                await before_each()
             move: Finished[T] | tuple[Flatmate, Step] = await self.standin.wait_for(
                 next_move, timeout
             )

@@ -18,7 +18,7 @@ from __future__ import annotations
 
 import json
 
-from bot.rounds import answer_reuse, asking, deadlines, lifecycle, rough_values
+from bot.rounds import answer_reuse, asking, deadlines, group_moves, lifecycle, rough_values
 from bot.rounds.clock import Clock
 from bot.rounds.context import Context, EngineConfig, SearchCache
 from bot.rounds.errors import NotAllowed, Refusal, StaleAction
@@ -172,7 +172,7 @@ async def _dispatch(ctx: Context, event: Event) -> None:
     elif isinstance(event, ShowMyAnswers):
         await _show_my_answers(ctx, event.group_id, event.actor)
     elif isinstance(event, MoveGroup):
-        await ctx.tx.move_group(event.old_group_id, event.new_group_id)
+        await group_moves.move_group(ctx, event)
     else:
         await deadlines.fire_due(ctx)
 

@@ -36,6 +36,8 @@ class Configure:
     group_id: int
     actor: Actor
     setup: SetupInput
+    #: a new round (``/newround``): refused if the group already has one past drafting
+    fresh: bool = False
 
 
 @dataclass(frozen=True, slots=True)

@@ -32,6 +32,18 @@ def check_dump(dump: Dump) -> None:
     _require(not crowded, f"groups {crowded} have more than one open round")
     for row in dump["rounds"]:
         _check_round(row, members[row[0]], questions[row[0]])
+    check_private_stays_private(dump)
+
+
+def check_private_stays_private(dump: Dump) -> None:
+    """A message meant for one person is only ever addressed to that person's chat."""
+    for row in dump.get("outbox", []):
+        outbox_id, chat_id, payload = row[0], row[3], json.loads(row[7])
+        meant_for, private = payload["to"]
+        _require(
+            not private or chat_id == meant_for,
+            f"outbox {outbox_id}: private message for {meant_for} is addressed to chat {chat_id}",
+        )
 
 
 def _check_round(

@@ -53,6 +53,11 @@ async def configure(ctx: Context, event: Configure) -> None:
     if record is None:
         await _create_draft(ctx, event)
         return
+    if event.fresh and record.phase is not Phase.DRAFTING:
+        raise IllegalMove(
+            f"this group already has a round ({record.phase.in_words}), and it stays as it is; "
+            "finish it, or an admin can end it with /cancelround before starting another"
+        )
     require_admin(record, event.actor, "change the settings")
     if record.phase not in (Phase.DRAFTING, Phase.GATHERING):
         raise IllegalMove(

@@ -9,6 +9,7 @@ from __future__ import annotations
 import hashlib
 import json
 import mimetypes
+import time
 from collections.abc import Awaitable, Callable
 from dataclasses import dataclass
 from typing import Any
@@ -258,6 +259,7 @@ class BotApiMethods:
         if record is None or record.answered:
             raise bad_request(QUERY_TOO_OLD)
         record.answered = True
+        record.answered_at = time.perf_counter()
         record.answer_text = params.get("text")
         record.show_alert = bool(params.get("show_alert", False))
         self.world.changed.notify()

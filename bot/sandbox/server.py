@@ -7,7 +7,9 @@ recorded, so tests can assert on what the bot did and on anything it did wrong.
 
 from __future__ import annotations
 
+import asyncio
 import json
+import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from types import TracebackType
@@ -47,6 +49,8 @@ class ApiCall:
     params: dict[str, Any]
     status: int = 200
     violations: list[str] = field(default_factory=list)
+    #: ``time.perf_counter()`` when the call arrived (benchmarks)
+    at: float = field(default_factory=time.perf_counter)
 
 
 class BotApiStandIn:
@@ -78,6 +82,8 @@ class BotApiStandIn:
         self.unimplemented: list[str] = []
         self.calls: list[ApiCall] = []
         self._faults: dict[str, list[ApiError]] = {}
+        self._held: dict[int, asyncio.Event] = {}
+        self.parked = 0
         self._server: HTTPServer | None = None
         self.port: int | None = None
         self.webhook = WebhookDelivery(self.world.updates, self._webhook_target, self.world.changed)
@@ -158,6 +164,20 @@ class BotApiStandIn:
         queued = self._faults.setdefault(method.lower(), [])
         queued.extend(injected(error_code, retry_after, description) for _ in range(times))
 
+    def hold_chat(self, chat_id: int) -> None:
+        """Calls addressed to this chat wait until :meth:`release_chat` (a slow group chat).
+
+        Simulates a chat that Telegram is slow to serve (flood waits, a congested group), so a
+        test can show what the bot does meanwhile; ``parked`` counts the calls now waiting.
+        """
+        self._held.setdefault(chat_id, asyncio.Event())
+
+    def release_chat(self, chat_id: int) -> None:
+        """Let the calls held for this chat (and later ones) through."""
+        gate = self._held.pop(chat_id, None)
+        if gate is not None:
+            gate.set()
+
     def calls_to(self, method: str) -> list[dict[str, Any]]:
         """Parameters of every successful call to `method`, oldest first."""
         wanted = method.lower()
@@ -173,6 +193,7 @@ class BotApiStandIn:
         """Validate, maybe inject a fault, run the method; returns (HTTP status, JSON body)."""
         call = ApiCall(method, params)
         self.calls.append(call)
+        await self._wait_if_held(params)
         try:
             result = await self._answer(token, call)
         except ApiError as error:
@@ -181,6 +202,21 @@ class BotApiStandIn:
         finally:
             self.world.changed.notify()
         return 200, {"ok": True, "result": result}
+
+    async def _wait_if_held(self, params: dict[str, Any]) -> None:
+        try:
+            chat_id = int(params.get("chat_id", 0))
+        except (TypeError, ValueError):
+            return
+        gate = self._held.get(chat_id)
+        if gate is None:
+            return
+        self.parked += 1
+        self.world.changed.notify()
+        try:
+            await gate.wait()
+        finally:
+            self.parked -= 1
 
     async def _answer(self, token: str, call: ApiCall) -> Any:
         if token != self.token:

@@ -52,15 +52,25 @@ class UpdateQueue:
         self.closing = False
         self._next_id = FIRST_UPDATE_ID
         self._notifier = notifier
+        self._again: set[int] = set()
+        self.history: dict[int, dict[str, Any]] = {}
         self._poll_generation = 0
 
     def add(self, kind: str, payload: dict[str, Any]) -> dict[str, Any]:
         """Queue one update and wake the long poll."""
         update = {"update_id": self._next_id, kind: payload}
+        self.history[self._next_id] = update
         self._next_id += 1
         self.pending.append(update)
         self._notifier.notify()
         return update
+
+    def add_again(self, update_id: int) -> None:
+        """Deliver an update a second time, same update_id: what a bot sees when Telegram
+        resends (its confirmation was lost, or a webhook answer timed out)."""
+        self._again.add(update_id)
+        self.pending.append(self.history[update_id])
+        self._notifier.notify()
 
     def remove(self, update_id: int) -> None:
         """A webhook delivery was accepted (or given up): the update leaves the queue."""
@@ -81,13 +91,20 @@ class UpdateQueue:
         if offset < 0:
             self.pending = self.pending[offset:]
         elif offset:
-            self.pending = [u for u in self.pending if u["update_id"] >= offset]
+            self.pending = [
+                u for u in self.pending if u["update_id"] >= offset or u["update_id"] in self._again
+            ]
         self.pending = [u for u in self.pending if self._allowed(u)]
 
     def take(self, offset: int, limit: int) -> list[dict[str, Any]]:
         """Confirm below offset, then return up to limit updates without removing them."""
         self._confirm(offset)
-        return self.pending[:limit]
+        found = self.pending[:limit]
+        resent = [u for u in found if u["update_id"] in self._again]
+        if resent:  # a resent update is handed out once, then confirmed like the rest
+            self._again.difference_update(u["update_id"] for u in resent)
+            self.pending = [u for u in self.pending if u not in resent]
+        return found
 
     async def poll(
         self, offset: int, limit: int, timeout: float, allowed: list[str] | None

@@ -10,7 +10,7 @@ import asyncio
 import re
 import time
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, TypeVar
 
 from bot.sandbox.errors import SandboxError
@@ -37,6 +37,9 @@ class CallbackRecord:
     answered: bool = False
     answer_text: str | None = None
     show_alert: bool = False
+    #: ``time.perf_counter()`` when the press was queued and when it was answered (benchmarks)
+    pressed_at: float = field(default_factory=time.perf_counter)
+    answered_at: float | None = None
 
 
 def command_entities(text: str) -> list[dict[str, Any]]:
@@ -164,6 +167,18 @@ class World:
         """The user taps Start (optionally through a t.me link with a start payload)."""
         text = "/start" if payload is None else f"/start {payload}"
         return self.user_says(user, self.private_chat_of(user), text)
+
+    def deliver_again(self, message: SimMessage) -> None:
+        """Telegram sends the update of this message once more (same update_id)."""
+        for update_id, update in self.updates.history.items():
+            sent = update.get("message")
+            if sent and (sent["chat"]["id"], sent["message_id"]) == (
+                message.chat.id,
+                message.message_id,
+            ):
+                self.updates.add_again(update_id)
+                return
+        raise SandboxError(f"message {message.message_id} never reached the bot as an update")
 
     def user_says(self, user: SimUser, chat: SimChat, text: str) -> SimMessage:
         """The user sends text; the bot receives it if Telegram would deliver it (privacy mode)."""

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import asyncio
 import json
+from collections.abc import Awaitable, Callable
 from dataclasses import dataclass
 from decimal import Decimal
 from pathlib import Path
@@ -85,6 +86,17 @@ class Flat:
     tenants: dict[int, Tenant]
     rent: int
     household: Household
+    #: runs right after each press is queued, before the bot has seen it (e.g. an upgrade)
+    on_press: Callable[[], None] | None = None
+    #: runs after every step of play_until_settled (invariant checks)
+    after_step: Callable[[], Awaitable[None]] | None = None
+
+    def __post_init__(self) -> None:
+        self.household.on_press = lambda mate, message, label: self._pressed()
+
+    def _pressed(self) -> None:
+        if self.on_press is not None:
+            self.on_press()
 
     @property
     def group(self) -> SimChat:
@@ -224,7 +236,15 @@ class Flat:
                 return (None,)
             return None
 
-        return (await self.household.take_turns(done, timeout=timeout))[0]
+        from tests.adapter.privacy import assert_private_stays_private
+
+        async def check() -> None:
+            # The promise people rely on most, checked before every step of every seeded run.
+            await assert_private_stays_private(self.standin, self.db_path)
+            if self.after_step is not None:
+                await self.after_step()
+
+        return (await self.household.take_turns(done, timeout=timeout, before_each=check))[0]
 
     async def agreement(self) -> tuple[dict[str, int], list[int]]:
         """The stored agreement (assignment by user id, prices per room) from the audit log."""

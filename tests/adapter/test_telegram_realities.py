@@ -122,6 +122,8 @@ async def test_forged_foreign_double_and_late_presses_are_refused_without_change
         token_data = open_question.buttons()[0][0].callback_data
         assert token_data is not None
         store: SqliteStore = runtime(app).store  # type: ignore[assignment]
+        # Presses are answered before their messages go out: wait until sending is done.
+        assert await runtime(app).delivery.flush()
         before = await store.dump()
         attempts = [
             (owner, open_question, CALLBACK_PREFIX + "AAAAAAAAAAAA"),  # forged token

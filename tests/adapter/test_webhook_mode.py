@@ -19,7 +19,7 @@ from bot.adapter.application import Webhook, running
 from bot.adapter.webhook_guard import SECRET_HEADER
 from bot.sandbox import BotApiStandIn
 from bot.storage.sqlite import SqliteStore
-from tests.adapter.harness import ROOMS, Flat, app_for
+from tests.adapter.harness import ROOMS, Flat, app_for, runtime
 
 SECRET = "sorrel-lane-hook-secret"
 
@@ -48,8 +48,9 @@ async def test_two_bot_processes_share_a_round_over_webhooks(
     flat = Flat.invent(standin, db_path, size=3, rent=1_500_00, seed=8)
     first, second = _hook(_free_port()), _hook(_free_port())
     async with AsyncExitStack() as stack:
-        await stack.enter_async_context(running(app_for(standin, db_path), webhook=first))
-        await stack.enter_async_context(running(app_for(standin, db_path), webhook=second))
+        apps = [app_for(standin, db_path), app_for(standin, db_path)]
+        await stack.enter_async_context(running(apps[0], webhook=first))
+        await stack.enter_async_context(running(apps[1], webhook=second))
         standin.webhook.alternate_with(first.url)  # like two processes behind one balancer
         flat.standin.world.user_says(
             flat.admin, flat.group, f"/newround 1500.00 EUR; {', '.join(ROOMS[:3])}; tolerance 10"
@@ -73,6 +74,8 @@ async def test_two_bot_processes_share_a_round_over_webhooks(
         assert not set(to_first) & set(to_second)
         assert "which matches the rent" in (settled.text or "")
         # a request with a wrong or missing secret is refused and changes nothing
+        for app in apps:  # presses are answered before their messages go out: let them go
+            assert await runtime(app).delivery.flush()
         before = await _dump(db_path)
         forged = {
             "update_id": 10**9,

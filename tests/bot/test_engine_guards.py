@@ -118,3 +118,19 @@ async def test_concurrent_rounds_in_two_groups_and_shared_members(
     results = await asyncio.gather(*(p.play(o) for p, o in zip(plays, outs, strict=True)))
     assert all(sum(line.price for line in r.lines) == 185_000 for r in results)
     check_dump(await store.dump())
+
+
+@pytest.mark.parametrize("begun", [False, True])
+async def test_a_second_new_round_leaves_the_open_one_as_it_is(
+    engine: Engine, store: SqliteStore, begun: bool
+) -> None:
+    admin = people(1)[0]
+    if begun:
+        await _asking(engine)
+    else:
+        await engine.handle(
+            Configure("c1", GROUP, admin, SetupInput.parse(RENT_TEXT, ROOMS[:3]), fresh=True)
+        )
+        await engine.handle(OpenJoining("o1", GROUP, admin))
+    again = Configure("c2", GROUP, admin, SetupInput.parse("2400 EUR", ROOMS[3:5]), fresh=True)
+    await _refused_unchanged(engine, store, again, "already has a round")

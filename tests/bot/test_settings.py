@@ -81,3 +81,19 @@ def test_rooms_from_one_line_and_default_tolerance_is_one_major_unit() -> None:
 def test_floor_too_high_is_refused_in_the_solvers_words() -> None:
     with pytest.raises(InvalidSetup, match="floor"):
         build_settings(SetupInput.parse("100 EUR", ["A", "B"], floor="60"))
+
+
+@pytest.mark.parametrize("text", ["abc EUR", "EUR abc", "abc def EUR"])
+def test_a_word_for_the_amount_is_a_bad_amount_not_a_second_currency(text: str) -> None:
+    with pytest.raises(InvalidSetup, match="not an amount I can read") as refused:
+        check_rent(parse_rent(text), None)
+    assert "currency code" not in str(refused.value)
+
+
+@pytest.mark.parametrize(
+    ("text", "says"),
+    [("1850 EUR GBP", "give one currency code"), ("1850 EUX", "not a currency code I know")],
+)
+def test_currency_mistakes_are_still_named(text: str, says: str) -> None:
+    with pytest.raises(InvalidSetup, match=says):
+        check_rent(parse_rent(text), None)
