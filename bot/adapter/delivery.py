@@ -43,15 +43,8 @@ from bot.adapter.board_edits import BOARD_EDIT_EVERY, CoalescedEdits
 from bot.adapter.chat_senders import ChatSenders
 from bot.adapter.documents import send_agreement
 from bot.adapter.keyboards import deep_link, join_payload, keyboard
-from bot.adapter.texts import (
-    answered_question,
-    board,
-    fit,
-    needs_private_chat,
-    pick_locale,
-    render,
-    withdrawn_question,
-)
+from bot.adapter.private_texts import answered_question, withdrawn_question
+from bot.adapter.texts import board, fit, needs_private_chat, pick_locale, render
 from bot.adapter.walk_picture import send_walk_picture
 from bot.rounds.clock import Clock
 from bot.rounds.engine import Engine

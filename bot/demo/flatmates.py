@@ -23,7 +23,7 @@ from urllib.parse import parse_qs, urlparse
 from babel.numbers import get_decimal_symbol, get_group_symbol, parse_decimal
 
 from bot.adapter.keyboards import button_label
-from bot.adapter.texts import ROUGH_INVITE_OPENING
+from bot.adapter.private_texts import ROUGH_INVITE_OPENING
 from bot.rounds.messages import Action, Choice
 from bot.sandbox.models import SimChat, SimMessage, SimUser
 from bot.sandbox.server import BotApiStandIn

@@ -63,7 +63,9 @@ async def test_progress_message_follows_the_group_through_an_upgrade(
 
         shown = await standin.wait_for(board_shown, timeout=10)
         boards = [
-            m for m in world.messages_in(flat.group) if "Questions answered" in (m.text or "")
+            m
+            for m in world.messages_in(flat.group)
+            if "Questions answered" in (m.text or "") or "Answers so far" in (m.text or "")
         ]
         assert boards == [shown]  # re-posted once in the new chat, then edited there
 

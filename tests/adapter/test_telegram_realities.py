@@ -208,7 +208,7 @@ async def test_group_upgraded_to_a_supergroup_keeps_its_round(
         flat.group = world.upgrade_to_supergroup(old_group)
         upgraded_at = len(world.messages_in(old_group))
         world.user_says(flat.admin, flat.group, "/status")
-        status = await flat.wait_group("answered")
+        status = await flat.wait_group("Answers so far")
         assert status.chat.id == flat.group.id
         settled = await flat.play_until_settled()
         assert settled is not None and settled.chat.id == flat.group.id
