@@ -97,10 +97,7 @@ def question(f: QuestionFacts, locale: str, *, reminder: bool) -> str:
     )
 
 
-WITHDRAWN_NOTE = (
-    "No longer needed: I asked this early so you would not have to wait, and the others' "
-    "answers took the walk elsewhere. Nothing to do."
-)
+WITHDRAWN_NOTE = "No longer needed: the round went on without this answer. Nothing to do."
 
 
 def withdrawn_question(f: QuestionFacts, locale: str) -> str:

@@ -212,6 +212,9 @@ def round_text(
         "few more questions privately.",
         Kind.CANCELLED: "The round was cancelled. Nothing was agreed.",
         Kind.LAPSED: "The round ran out of time and is closed. Nothing was agreed.",
+        Kind.STOPPED_AT_LIMIT: "This round stops here: it would have asked some of you more "
+        f"than {f.question_limit} questions without a split everyone chose. Nothing was "
+        "agreed. An admin can start again with /again, perhaps with a larger tolerance.",
     }.get(kind, "Round update.")
     lines = [headline, *_settings_lines(f, locale)]
     if kind is Kind.ASKING_STARTED:

@@ -13,6 +13,7 @@ groups' button presses.
 from __future__ import annotations
 
 import asyncio
+from dataclasses import replace
 
 from bot.rounds.buttons import issue_choice
 from bot.rounds.context import Context
@@ -51,6 +52,10 @@ async def start_search(ctx: Context, record: RoundRecord, search: AnySearch) -> 
 async def sync_search(ctx: Context, record: RoundRecord, search: AnySearch) -> None:
     """Save the search, then ask any newly opened question or announce a new proposal."""
     await ctx.save_search(record.id, search)
+    limit = ctx.config.max_questions_per_member
+    if search.proposal() is None and max(search.questions_per_member().values()) > limit:
+        await _stop_at_limit(ctx, record, search)
+        return
     for question in search.open_questions():
         if await ctx.tx.question(record.id, question.id) is None:
             await ask(ctx, record, search, question)
@@ -59,6 +64,29 @@ async def sync_search(ctx: Context, record: RoundRecord, search: AnySearch) -> N
     current = await ctx.tx.round_by_id(record.id)
     if proposal is not None and current is not None and current.phase is Phase.ASKING:
         await propose(ctx, current, proposal)
+
+
+async def _stop_at_limit(ctx: Context, record: RoundRecord, search: AnySearch) -> None:
+    """Someone would get more questions than the limit: the round stops, clearly, for all."""
+    phase = transition(record.phase, Step.DEADLINE_PASSED)
+    await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
+    await ctx.tx.drop_timers(record.id)
+    await ctx.audit(
+        record.id, AuditKind.STOPPED_AT_LIMIT, None, limit=ctx.config.max_questions_per_member
+    )
+    ctx.ended.add(record.id)
+    current = await ctx.tx.round_by_id(record.id)
+    assert current is not None
+    for stored in await ctx.tx.questions(record.id):
+        if stored.open:
+            await ctx.tx.withdraw_question(record.id, stored.qid, ctx.now)
+            facts = ProgressFacts(record.id, 0, 0, None, question_ref(record.id, stored.qid))
+            ctx.send(Outgoing(Recipient.person(stored.user_id), Kind.WITHDRAWN, facts))
+    stopped = replace(
+        round_facts(current, await ctx.tx.members(record.id)),
+        question_limit=ctx.config.max_questions_per_member,
+    )
+    ctx.send(Outgoing(Recipient.group(record.group_id), Kind.STOPPED_AT_LIMIT, stopped))
 
 
 async def withdraw_unneeded(ctx: Context, record: RoundRecord, search: AnySearch) -> None:
@@ -263,6 +291,7 @@ async def accept(ctx: Context, record: RoundRecord, actor: Actor, ref: str) -> N
         return
     phase = transition(record.phase, Step.ALL_ACCEPTED)
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
+    ctx.ended.add(record.id)
     await ctx.tx.drop_timers(record.id)
     await ctx.audit(
         record.id,

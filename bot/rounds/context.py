@@ -8,6 +8,7 @@ event never leaves a half-advanced search in memory.
 from __future__ import annotations
 
 import json
+from collections import OrderedDict
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -35,9 +36,33 @@ class EngineConfig:
     hold_up_after: int = 3 * DAY
     lapse_after: int = 14 * DAY
     look_ahead: bool = False
+    #: A round that would ask anyone more questions than this stops, with a clear message to
+    #: the group, instead of going on without bound (a 10-room walk can take hundreds).
+    max_questions_per_member: int = 150
 
 
 SearchCache = dict[int, tuple[int, AnySearch]]
+#: How many rounds' searches the engine keeps in memory (a 10-room walk is about 0.7 MB);
+#: rounds that ended are dropped at once, the least recently used beyond this.
+CACHED_SEARCHES = 256
+
+
+class BoundedSearchCache(OrderedDict[int, tuple[int, AnySearch]]):
+    """The engine's search cache: least recently used first, never more than ``limit``."""
+
+    def __init__(self, limit: int = CACHED_SEARCHES) -> None:
+        super().__init__()
+        self.limit = limit
+
+    def keep(self, fresh: SearchCache, ended: set[int]) -> None:
+        """After a commit: remember this event's searches, forget rounds that ended."""
+        for round_id, entry in fresh.items():
+            self[round_id] = entry
+            self.move_to_end(round_id)
+        for round_id in ended:
+            self.pop(round_id, None)
+        while len(self) > self.limit:
+            self.popitem(last=False)
 
 
 @dataclass
@@ -47,9 +72,11 @@ class Context:
     tx: Transaction
     now: int
     config: EngineConfig
-    cache: SearchCache
+    cache: SearchCache | BoundedSearchCache
     out: list[Outgoing] = field(default_factory=list)
     searches: SearchCache = field(default_factory=dict)
+    #: rounds that ended in this event (agreed, cancelled, lapsed, stopped at the limit)
+    ended: set[int] = field(default_factory=set)
 
     def send(self, message: Outgoing) -> None:
         self.out.append(message)

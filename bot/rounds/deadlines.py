@@ -82,6 +82,7 @@ async def _lapse(ctx: Context, record: RoundRecord) -> None:
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
     await ctx.tx.drop_timers(record.id)
     await ctx.audit(record.id, AuditKind.LAPSED, None)
+    ctx.ended.add(record.id)
     current = await ctx.tx.round_by_id(record.id)
     assert current is not None
     members = await ctx.tx.members(record.id)

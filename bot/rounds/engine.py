@@ -20,7 +20,7 @@ import json
 
 from bot.rounds import answer_reuse, asking, deadlines, group_moves, lifecycle, rough_values
 from bot.rounds.clock import Clock
-from bot.rounds.context import Context, EngineConfig, SearchCache
+from bot.rounds.context import BoundedSearchCache, Context, EngineConfig
 from bot.rounds.errors import NotAllowed, Refusal, StaleAction
 from bot.rounds.events import (
     Actor,
@@ -68,7 +68,7 @@ class Engine:
         self._store = store
         self._clock = clock
         self._config = config
-        self._searches: SearchCache = {}
+        self._searches = BoundedSearchCache()
 
     async def handle(self, event: Event) -> list[Outgoing]:
         """Apply ``event`` once; the returned messages are already backed by committed state.
@@ -90,8 +90,13 @@ class Engine:
                 await tx.mark_event(event.key, now)
         except Refusal as refusal:
             return [_refusal_message(event, refusal)]
-        self._searches.update(ctx.searches)
+        self._searches.keep(ctx.searches, ctx.ended)
         return ctx.out
+
+    @property
+    def cached_rounds(self) -> tuple[int, ...]:
+        """Rounds whose search is held in memory, least recently used first (bounded)."""
+        return tuple(self._searches)
 
     async def due_timers(self, now: int) -> list[TimerRecord]:
         """Timers due at ``now`` that have not fired (what the next Tick will handle)."""
@@ -111,7 +116,7 @@ class Engine:
             else:
                 raise ValueError("status() needs group_id or round_id")
             result = None if record is None else await status_of(ctx, record)
-        self._searches.update(ctx.searches)
+        self._searches.keep(ctx.searches, set())
         return result
 
     async def history(self, group_id: int) -> list[AgreementFacts]:
@@ -137,7 +142,7 @@ class Engine:
                 return None
             ctx = Context(tx, self._clock(), self._config, self._searches)
             search = ctx.search(record)
-        self._searches.update(ctx.searches)
+        self._searches.keep(ctx.searches, set())
         return search, record.settings
 
     async def pending_timers(self) -> list[TimerRecord]:

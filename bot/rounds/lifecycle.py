@@ -213,6 +213,7 @@ async def cancel(ctx: Context, group_id: int, actor: Actor) -> None:
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
     await ctx.tx.drop_timers(record.id)
     await ctx.audit(record.id, AuditKind.CANCELLED, actor.user_id)
+    ctx.ended.add(record.id)
     await announce(ctx, record.id, Kind.CANCELLED)
 
 

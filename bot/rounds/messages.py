@@ -54,6 +54,7 @@ class Kind(Enum):
     EARLIER_OFFER = "earlier-offer"
     EARLIER_CHOSEN = "earlier-chosen"
     AGREEMENT = "agreement"
+    STOPPED_AT_LIMIT = "stopped-at-limit"
     ROUGH_INVITE = "rough-invite"
     ROUGH_NOTED = "rough-noted"
 
@@ -106,6 +107,8 @@ class RoundFacts:
     #: When asking starts: about how many rounds to expect, and when the round lapses.
     expected_rounds: int | None = None
     lapses_at: int | None = None
+    #: When a round stopped at the limit: how many questions each member could be asked.
+    question_limit: int | None = None
 
 
 @dataclass(frozen=True, slots=True)

@@ -126,6 +126,7 @@ class AuditKind:
     EARLIER_CHOICE = "earlier-choice"
     ROUND_CLOSED = "round-closed"
     ROUGH_VALUES = "rough-values"
+    STOPPED_AT_LIMIT = "stopped-at-limit"
 
 
 #: The audit kinds that are a member's own answers (shown to that member only).
