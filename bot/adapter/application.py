@@ -32,7 +32,6 @@ from bot.adapter.runtime import RUNTIME_KEY, AnyApp, Runtime, retry_outbox_job, 
 from bot.adapter.texts import COMMANDS
 from bot.adapter.update_order import OnePerChat
 from bot.rounds.clock import Clock, system_clock
-from bot.rounds.context import EngineConfig
 from bot.rounds.engine import Engine
 from bot.storage.open_store import open_store
 
@@ -95,7 +94,7 @@ async def _post_init(app: AnyApp) -> None:
     settings: Settings = app.bot_data["settings"]
     clock: Clock = app.bot_data["clock"]
     store = await open_store(settings.database, clock=clock)
-    engine = Engine(store, clock=clock, config=EngineConfig(token_secret=settings.token_secret()))
+    engine = Engine(store, clock=clock, config=settings.engine_config())
     delivery = Delivery(
         app.bot,
         store,

@@ -14,6 +14,8 @@ from babel import Locale, UnknownLocaleError
 from pydantic import Field, SecretStr, field_validator, model_validator
 from pydantic_settings import BaseSettings, SettingsConfigDict
 
+from bot.rounds.context import EngineConfig
+
 #: Shape of a token from @BotFather: "<bot id>:<secret>" (from memory: the secret is 35
 #: characters of A-Z a-z 0-9 _ -; we accept 20 or more so local stand-in tokens fit too).
 TOKEN_PATTERN = re.compile(r"^\d{1,20}:[A-Za-z0-9_-]{20,}$")
@@ -50,6 +52,8 @@ class Settings(BaseSettings):
     #: Seconds between two edits of a group's progress message (coalesced, latest state last).
     board_edit_every: float = Field(default=3, ge=0)
     button_secret: SecretStr | None = None
+    #: Only the group chat's admins may start rounds (else any member may, and runs it).
+    only_admins_start: bool = False
 
     @field_validator("mode", mode="before")
     @classmethod
@@ -118,6 +122,12 @@ class Settings(BaseSettings):
                     "A-Z, a-z, 0-9, _ and -"
                 )
         return self
+
+    def engine_config(self) -> EngineConfig:
+        """The engine's knobs that come from these settings."""
+        return EngineConfig(
+            token_secret=self.token_secret(), only_admins_start=self.only_admins_start
+        )
 
     def token_secret(self) -> bytes:
         """The key for button tokens: the configured one, else derived from the bot token."""

@@ -35,6 +35,8 @@ class EngineConfig:
     hold_up_after: int = 3 * DAY
     lapse_after: int = 14 * DAY
     look_ahead: bool = False
+    #: only the group chat's admins may start a round (``/newround``, ``/again``, ``/changeover``)
+    only_admins_start: bool = False
 
 
 WalkCache = dict[int, tuple[int, Walk]]
