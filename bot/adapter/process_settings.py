@@ -54,6 +54,10 @@ class Settings(BaseSettings):
     button_secret: SecretStr | None = None
     #: Only the group chat's admins may start rounds (else any member may, and runs it).
     only_admins_start: bool = False
+    #: Retention (bot/rounds/retention.py): days a finished round's private answers are
+    #: kept, and days processed update ids and sent messages are kept. Agreements stay.
+    keep_answers_days: int = Field(default=60, ge=1)
+    keep_log_days: int = Field(default=30, ge=1)
 
     @field_validator("mode", mode="before")
     @classmethod
@@ -126,7 +130,10 @@ class Settings(BaseSettings):
     def engine_config(self) -> EngineConfig:
         """The engine's knobs that come from these settings."""
         return EngineConfig(
-            token_secret=self.token_secret(), only_admins_start=self.only_admins_start
+            token_secret=self.token_secret(),
+            only_admins_start=self.only_admins_start,
+            keep_answers_days=self.keep_answers_days,
+            keep_log_days=self.keep_log_days,
         )
 
     def token_secret(self) -> bytes:

@@ -37,6 +37,10 @@ class EngineConfig:
     look_ahead: bool = False
     #: only the group chat's admins may start a round (``/newround``, ``/again``, ``/changeover``)
     only_admins_start: bool = False
+    #: retention (:mod:`bot.rounds.retention`): days a finished round's answers are kept,
+    #: and days processed event keys and sent messages are kept
+    keep_answers_days: int = 60
+    keep_log_days: int = 30
 
 
 WalkCache = dict[int, tuple[int, Walk]]
