@@ -232,9 +232,9 @@ async def _show_my_answers(ctx: Context, group_id: int, actor: Actor) -> None:
     require_member(await ctx.tx.members(record.id), actor)
     if record.forgotten_at is not None:
         raise NotAllowed(
-            "the answers of this group's last round were deleted some time after it ended, "
-            f"as this bot keeps them for {ctx.config.keep_answers_days} days; "
-            "the agreement itself is kept (/agreements)"
+            "your answers in this group's last round were deleted: answers are kept for "
+            f"{ctx.config.keep_answers_days} days after a round ends. Its agreement is kept; "
+            "see /agreements"
         )
     lines = []
     for entry in await ctx.tx.audit_of(record.id, actor.user_id):

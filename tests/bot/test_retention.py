@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 from contextlib import AbstractAsyncContextManager
+from dataclasses import replace
 from datetime import timedelta
 from pathlib import Path
 from typing import Any
@@ -20,7 +21,7 @@ from flat_scenario import GROUP, RENT_TEXT, ROOMS, SECRET, people, tenants_for
 from bot.rounds.clock import ManualClock
 from bot.rounds.context import EngineConfig
 from bot.rounds.engine import Engine
-from bot.rounds.events import BeginAsking, OpenJoining, Rerun, ShowMyAnswers
+from bot.rounds.events import BeginAsking, MoveGroup, OpenJoining, Rerun, ShowMyAnswers
 from bot.rounds.invariants import check_dump
 from bot.rounds.messages import AgreementFacts, Kind
 from bot.rounds.records import AuditKind, OutboxState
@@ -201,3 +202,21 @@ def test_the_forgotten_round_column_is_where_the_checks_read_it() -> None:
 
     added = [s for m in MIGRATIONS for s in m.statements if "forgotten_at" in s]
     assert added and json.dumps(added).count("ALTER TABLE rounds") == 1
+
+
+async def test_a_read_transaction_refuses_writes(store: SqliteStore) -> None:
+    with pytest.raises(Exception, match=r"readonly|read-only"):  # SQLite / PostgreSQL wording
+        async with store.read_transaction() as tx:
+            await tx.add_contact(8, "en", 0)
+    assert (await store.dump())["contacts"] == []
+
+
+async def test_a_group_that_moved_keeps_its_agreements(
+    store: SqliteStore, clock: ManualClock
+) -> None:
+    engine = Engine(store, clock=clock, config=EngineConfig(token_secret=SECRET))
+    _, written = await _settled(engine)
+    new_id = GROUP * 1000  # a supergroup's id after the upgrade
+    await engine.handle(MoveGroup("moved", GROUP, new_id))
+    assert await engine.history(GROUP) == []
+    assert await engine.history(new_id) == [replace(written[0], group_id=new_id)]
