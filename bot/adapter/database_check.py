@@ -38,6 +38,11 @@ async def database_problem(database: str, *, clock: Clock = system_clock) -> Dat
     shown = safe_address(database)
     kind = "PostgreSQL at" if is_postgres_dsn(database) else "the SQLite file"
     try:
+        if not is_postgres_dsn(database):
+            # Connect once synchronously first: when aiosqlite's own connect fails, its worker
+            # thread reports to the event loop after asyncio.run has closed it, and prints a
+            # traceback of its own. A path that cannot be opened fails here instead.
+            sqlite3.connect(database).close()
         store = await open_store(database, clock=clock)
     except StorageUnavailable as error:
         return DatabaseProblem(_line(database, str(error)), DATABASE_DOWN)
