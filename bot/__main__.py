@@ -1,9 +1,12 @@
 """``python -m bot``: run Flatpact with the settings from ``FLATPACT_*`` variables or ``.env``.
 
 A missing or malformed setting ends the program with one line on stderr and exit code 2
-(the usual code for a usage error), never with a traceback. Log records pass a redacting
-filter (:mod:`bot.adapter.redaction`), files are created private to the bot's user (umask 077), and
-webhook mode serves :mod:`bot.adapter.guarded_webhook` instead of PTB's own endpoint.
+(the usual code for a usage error), never with a traceback. The database is opened and
+migrated next, before the token is used against Telegram (:mod:`bot.adapter.database_check`):
+a database that cannot work is one line too (exit 2; exit 1 when its server does not answer).
+Log records pass a redacting filter (:mod:`bot.adapter.redaction`), files are created
+private to the bot's user (umask 077), and webhook mode serves
+:mod:`bot.adapter.guarded_webhook` instead of PTB's own endpoint.
 """
 
 from __future__ import annotations
@@ -19,6 +22,7 @@ from telegram.error import InvalidToken
 
 from bot.adapter import redaction
 from bot.adapter.application import ALLOWED_UPDATES, Webhook, build_application, running
+from bot.adapter.database_check import database_problem
 from bot.adapter.process_settings import Settings, describe_error
 from bot.adapter.runtime import AnyApp
 
@@ -52,6 +56,10 @@ def main() -> int:
         return USAGE_ERROR
     # Files the bot creates (the SQLite database and its journals) are for its user alone.
     os.umask(PRIVATE_FILES)
+    problem = asyncio.run(database_problem(settings.database))
+    if problem is not None:
+        print(problem.line, file=sys.stderr)
+        return problem.exit_code
     logging.basicConfig(
         level=settings.log_level, format="%(asctime)s %(levelname)s %(name)s: %(message)s"
     )

@@ -28,11 +28,17 @@ from bot.adapter.group_pace import GroupPacedRateLimiter
 from bot.adapter.guided_setup import guided_setup_handler
 from bot.adapter.keyboards import CALLBACK_PREFIX
 from bot.adapter.process_settings import Settings
-from bot.adapter.runtime import RUNTIME_KEY, AnyApp, Runtime, retry_outbox_job, runtime_of
+from bot.adapter.runtime import (
+    RUNTIME_KEY,
+    AnyApp,
+    Runtime,
+    retention_job,
+    retry_outbox_job,
+    runtime_of,
+)
 from bot.adapter.texts import COMMANDS
 from bot.adapter.update_order import OnePerChat
 from bot.rounds.clock import Clock, system_clock
-from bot.rounds.context import EngineConfig
 from bot.rounds.engine import Engine
 from bot.storage.open_store import open_store
 
@@ -40,6 +46,8 @@ log = logging.getLogger(__name__)
 #: Flood control: retry a 429 this many times, waiting retry_after each time.
 FLOOD_RETRIES = 3
 ALLOWED_UPDATES = [Update.MESSAGE, Update.CALLBACK_QUERY]
+#: Seconds between two runs of the retention policy (bot/rounds/retention.py): a day.
+RETENTION_EVERY = 24 * 3600
 #: The path of the webhook endpoint (behind the reverse proxy: https://<host>/telegram).
 WEBHOOK_PATH = "telegram"
 
@@ -101,7 +109,7 @@ async def _post_init(app: AnyApp) -> None:
     settings: Settings = app.bot_data["settings"]
     clock: Clock = app.bot_data["clock"]
     store = await open_store(settings.database, clock=clock)
-    engine = Engine(store, clock=clock, config=EngineConfig(token_secret=settings.token_secret()))
+    engine = Engine(store, clock=clock, config=settings.engine_config())
     delivery = Delivery(
         app.bot,
         store,
@@ -119,6 +127,10 @@ async def _post_init(app: AnyApp) -> None:
     if app.job_queue is not None:
         app.job_queue.run_repeating(
             retry_outbox_job, interval=settings.retry_every, name="flatpact-outbox"
+        )
+        # Once a day, the first a minute after start-up (not in the way of catching up).
+        app.job_queue.run_repeating(
+            retention_job, interval=RETENTION_EVERY, first=60, name="flatpact-retention"
         )
     await delivery.send_soon()
 

@@ -72,7 +72,7 @@ async def got_rent(update: Update, context: AnyContext) -> int:
     except InvalidSetup as bad:
         await _ask(message, f"Not quite: {bad}. Please reply with the rent again.")
         return ASK_RENT
-    _draft(context)["rent"] = rent
+    _draft(update, context)["rent"] = rent
     await _ask(message, ROOMS_QUESTION)
     return ASK_ROOMS
 
@@ -86,7 +86,7 @@ async def got_rooms(update: Update, context: AnyContext) -> int:
     except InvalidSetup as bad:
         await _ask(message, f"Not quite: {bad}. Please reply with the rooms again.")
         return ASK_ROOMS
-    rent = _draft(context).pop("rent", None)
+    rent = _draft(update, context).pop("rent", None)
     if not isinstance(rent, RentInput):  # the draft was lost (a restart): start again
         await _ask(message, RENT_QUESTION)
         return ASK_RENT
@@ -95,11 +95,19 @@ async def got_rooms(update: Update, context: AnyContext) -> int:
     return ConversationHandler.END
 
 
-def _draft(context: AnyContext) -> dict[str, Any]:
-    """Per admin and group (the conversation is per chat and per user)."""
-    if context.user_data is None:  # pragma: no cover - PTB always provides it for messages
-        raise RuntimeError("user_data is missing")
-    found = context.user_data.setdefault("guided_setup", {})
+def _draft(update: Update, context: AnyContext) -> dict[str, Any]:
+    """The half-finished set-up of this admin in this group.
+
+    Keyed by chat *and* user, like the conversation itself: PTB's ``user_data`` is one dict
+    per user across all chats, so a draft kept there let a rent typed in one group land in
+    another group's round when the same admin set up both at once.
+    """
+    chat, user = update.effective_chat, update.effective_user
+    if context.chat_data is None or chat is None or user is None:  # pragma: no cover
+        raise RuntimeError("a guided set-up reply without its chat or sender")
+    drafts = context.chat_data.setdefault("guided_setup", {})
+    assert isinstance(drafts, dict)
+    found = drafts.setdefault(user.id, {})
     assert isinstance(found, dict)
     return found
 

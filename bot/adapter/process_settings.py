@@ -8,10 +8,13 @@ from __future__ import annotations
 
 import hashlib
 import re
-from typing import Literal
+from typing import Any, Literal
 
+from babel import Locale, UnknownLocaleError
 from pydantic import Field, SecretStr, field_validator, model_validator
 from pydantic_settings import BaseSettings, SettingsConfigDict
+
+from bot.rounds.context import EngineConfig
 
 #: Shape of a token from @BotFather: "<bot id>:<secret>" (from memory: the secret is 35
 #: characters of A-Z a-z 0-9 _ -; we accept 20 or more so local stand-in tokens fit too).
@@ -49,6 +52,54 @@ class Settings(BaseSettings):
     #: Seconds between two edits of a group's progress message (coalesced, latest state last).
     board_edit_every: float = Field(default=3, ge=0)
     button_secret: SecretStr | None = None
+    #: Only the group chat's admins may start rounds (else any member may, and runs it).
+    only_admins_start: bool = False
+    #: Retention (bot/rounds/retention.py): days a finished round's private answers are
+    #: kept, and days processed update ids and sent messages are kept. Agreements stay.
+    keep_answers_days: int = Field(default=60, ge=1)
+    keep_log_days: int = Field(default=30, ge=1)
+
+    @field_validator("mode", mode="before")
+    @classmethod
+    def _mode_known(cls, value: Any) -> Any:
+        if isinstance(value, str) and value.strip().lower() in ("polling", "webhook"):
+            return value.strip().lower()
+        raise ValueError(f"FLATPACT_MODE={value!s} is not a mode; write polling or webhook")
+
+    @field_validator("log_level", mode="before")
+    @classmethod
+    def _level_known(cls, value: Any) -> Any:
+        levels = ("DEBUG", "INFO", "WARNING", "ERROR")
+        if isinstance(value, str) and value.strip().upper() in levels:
+            return value.strip().upper()
+        raise ValueError(
+            f"FLATPACT_LOG_LEVEL={value!s} is not a log level; write one of "
+            "DEBUG, INFO, WARNING or ERROR (any case)"
+        )
+
+    @field_validator("webhook_port", mode="before")
+    @classmethod
+    def _port_in_range(cls, value: Any) -> Any:
+        text = str(value).strip()
+        if text.isdigit() and 1 <= int(text) <= 65535:
+            return int(text)
+        raise ValueError(
+            f"FLATPACT_WEBHOOK_PORT={value!s} is not a port; write a whole number from 1 to 65535"
+        )
+
+    @field_validator("locale")
+    @classmethod
+    def _locale_known(cls, value: str) -> str:
+        # Babel parses the locale again wherever amounts are read or written; checking it
+        # here turns a failure on every /newround into one line at start-up.
+        try:
+            Locale.parse(value)
+        except (UnknownLocaleError, ValueError, TypeError):
+            raise ValueError(
+                f"FLATPACT_LOCALE={value} is not a locale Babel knows; write a language code "
+                "such as en, de or en_GB (underscore, not hyphen)"
+            ) from None
+        return value
 
     @field_validator("bot_token")
     @classmethod
@@ -76,6 +127,15 @@ class Settings(BaseSettings):
                 )
         return self
 
+    def engine_config(self) -> EngineConfig:
+        """The engine's knobs that come from these settings."""
+        return EngineConfig(
+            token_secret=self.token_secret(),
+            only_admins_start=self.only_admins_start,
+            keep_answers_days=self.keep_answers_days,
+            keep_log_days=self.keep_log_days,
+        )
+
     def token_secret(self) -> bytes:
         """The key for button tokens: the configured one, else derived from the bot token."""
         if self.button_secret is not None:
@@ -95,6 +155,7 @@ def describe_error(error: Exception) -> str:
             message = str(item.get("msg", "invalid")).removeprefix("Value error, ")
             if item.get("type") == "missing":
                 message = "is not set; put it in the environment or in .env"
-            parts.append(f"{name} {message}" if item.get("type") == "missing" else message)
+            named = name in message or (name == "settings" and "FLATPACT_" in message)
+            parts.append(message if named else f"{name}: {message}")
         return "flatpact: " + "; ".join(parts)
     return f"flatpact: {error}"

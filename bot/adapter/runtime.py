@@ -98,6 +98,14 @@ async def _retry_outbox(context: AnyContext) -> None:
     await runtime_of(context).delivery.send_soon()
 
 
+async def retention_job(context: AnyContext) -> None:
+    """Once a day: the retention policy (:mod:`bot.rounds.retention`)."""
+    runtime = runtime_of(context)
+    forgotten = await runtime.engine.forget(runtime.clock())
+    if forgotten:
+        log.info("retention: deleted the private answers of %d finished rounds", len(forgotten))
+
+
 async def retry_outbox_job(context: AnyContext) -> None:
     """The periodic safety net: whatever is still pending gets another try."""
     await runtime_of(context).delivery.send_soon()

@@ -15,6 +15,7 @@ from __future__ import annotations
 import asyncio
 from dataclasses import replace
 
+from bot.rounds.agreement_records import record_agreement
 from bot.rounds.buttons import issue_choice
 from bot.rounds.context import Context
 from bot.rounds.errors import NotAllowed, RefusalCode, StaleAction
@@ -307,6 +308,7 @@ async def accept(ctx: Context, record: RoundRecord, actor: Actor, ref: str) -> N
     settled = await ctx.tx.round_by_id(record.id)
     assert settled is not None
     document = agreement_facts(settled, members, proposal)
+    await record_agreement(ctx.tx, document, ctx.now)
     ctx.send(Outgoing(Recipient.group(record.group_id), Kind.AGREEMENT, document))
 
 

@@ -39,6 +39,12 @@ class EngineConfig:
     #: A round that would ask anyone more questions than this stops, with a clear message to
     #: the group, instead of going on without bound (a 10-room walk can take hundreds).
     max_questions_per_member: int = 150
+    #: only the group chat's admins may start a round (``/newround``, ``/again``, ``/changeover``)
+    only_admins_start: bool = False
+    #: retention (:mod:`bot.rounds.retention`): days a finished round's answers are kept,
+    #: and days processed event keys and sent messages are kept
+    keep_answers_days: int = 60
+    keep_log_days: int = 30
 
 
 SearchCache = dict[int, tuple[int, AnySearch]]

@@ -18,7 +18,16 @@ from __future__ import annotations
 
 import json
 
-from bot.rounds import answer_reuse, asking, deadlines, group_moves, lifecycle, rough_values
+from bot.rounds import (
+    agreement_records,
+    answer_reuse,
+    asking,
+    deadlines,
+    group_moves,
+    lifecycle,
+    retention,
+    rough_values,
+)
 from bot.rounds.clock import Clock
 from bot.rounds.context import BoundedSearchCache, Context, EngineConfig
 from bot.rounds.errors import NotAllowed, Refusal, StaleAction
@@ -39,7 +48,6 @@ from bot.rounds.events import (
     ShowMyAnswers,
     Tick,
 )
-from bot.rounds.message_facts import agreement_facts
 from bot.rounds.messages import (
     Action,
     AgreementFacts,
@@ -120,15 +128,25 @@ class Engine:
         return result
 
     async def history(self, group_id: int) -> list[AgreementFacts]:
-        """The group's settled rounds as agreements, oldest first (read only)."""
-        async with self._store.transaction() as tx:
-            ctx = Context(tx, self._clock(), self._config, self._searches)
-            found = []
-            for record in await tx.settled_rounds(group_id):
-                proposal = ctx.search(record).proposal()
-                if proposal is not None:
-                    found.append(agreement_facts(record, await tx.members(record.id), proposal))
-        return found
+        """The group's written agreements, oldest first, from a read transaction."""
+
+        async def read() -> list[AgreementFacts]:
+            async with self._store.read_transaction() as tx:
+                return await agreement_records.history(tx, group_id)
+
+        return await retry_transient(read)
+
+    async def forget(self, now: int) -> list[int]:
+        """Apply the retention policy (:mod:`bot.rounds.retention`); the rounds forgotten."""
+
+        async def once() -> list[int]:
+            async with self._store.transaction() as tx:
+                return await retention.forget(tx, now, self._config)
+
+        forgotten = await retry_transient(once)
+        for round_id in forgotten:
+            self._searches.pop(round_id, None)
+        return forgotten
 
     async def search_of(self, round_id: int) -> tuple[AnySearch, RoundSettings] | None:
         """The round's search and settings (read only; from the cache when current), or None.
@@ -226,6 +244,12 @@ async def _show_my_answers(ctx: Context, group_id: int, actor: Actor) -> None:
     if record is None:
         raise NotAllowed("this group has no round yet, so you have no answers to see")
     require_member(await ctx.tx.members(record.id), actor)
+    if record.forgotten_at is not None:
+        raise NotAllowed(
+            "your answers in this group's last round were deleted: answers are kept for "
+            f"{ctx.config.keep_answers_days} days after a round ends. Its agreement is kept; "
+            "see /agreements"
+        )
     lines = []
     for entry in await ctx.tx.audit_of(record.id, actor.user_id):
         if entry.kind in OWN_ANSWER_KINDS:

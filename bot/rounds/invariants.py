@@ -11,12 +11,14 @@ import json
 from collections import Counter, defaultdict
 from typing import Any
 
-from bot.rounds.phases import OPEN_PHASES, Phase
+from bot.rounds.phases import ENDED_PHASES, OPEN_PHASES, Phase
 from bot.rounds.round_settings import RoundSettings
 from bot.rounds.searches import AnySearch, load, records_of
 from solver import BrokenInvariant
 
 Dump = dict[str, list[tuple[Any, ...]]]
+#: Column of ``rounds.forgotten_at`` in a dump (added by migration 7, after the first eleven).
+FORGOTTEN_AT = 11
 
 
 def check_dump(dump: Dump) -> None:
@@ -52,6 +54,17 @@ def _check_round(
     round_id, phase, settings = row[0], Phase(row[3]), RoundSettings.from_json(row[4])
     rooms = len(settings.rooms)
     _require(len(members) <= rooms, f"round {round_id} has more members than rooms")
+    forgotten = len(row) > FORGOTTEN_AT and row[FORGOTTEN_AT] is not None
+    if forgotten:  # the retention policy deleted its answers: only an ended round, all gone
+        _require(phase in ENDED_PHASES, f"round {round_id} is {phase.value} but forgotten")
+        _require(row[5] is None, f"round {round_id} is forgotten but keeps its walk")
+        _require(not questions, f"round {round_id} is forgotten but keeps its questions")
+        accepted = [m for m in members if m[4] is not None]
+        _require(
+            phase is not Phase.SETTLED or len(accepted) == len(members),
+            f"round {round_id} settled without every acceptance",
+        )
+        return
     if row[5] is None:
         _require(not questions, f"round {round_id} has questions but no walk")
         _require(

@@ -18,7 +18,7 @@ from bot.rounds.events import Actor, Configure
 from bot.rounds.message_facts import round_facts
 from bot.rounds.messages import Action, Kind, Outgoing, Recipient
 from bot.rounds.names import person_name
-from bot.rounds.permissions import require_admin, require_member
+from bot.rounds.permissions import require_admin, require_may_start, require_member
 from bot.rounds.phases import RERUN_FROM, Phase, Step, transition
 from bot.rounds.records import AuditKind, RoundRecord, TimerKind
 from bot.rounds.round_settings import RoundSettings, amend_settings, build_settings
@@ -80,6 +80,7 @@ async def configure(ctx: Context, event: Configure) -> None:
 
 
 async def _create_draft(ctx: Context, event: Configure) -> None:
+    require_may_start(ctx.config.only_admins_start, event.actor)
     settings = build_settings(event.setup)
     round_id = await ctx.tx.insert_round(
         group_id=event.group_id,
@@ -229,6 +230,7 @@ async def rerun(ctx: Context, group_id: int, actor: Actor, keep_members: bool) -
         raise Refusal("there is no earlier round to re-run; set up a new one", RefusalCode.NO_ROUND)
     if not (actor.user_id == previous.admin_id or actor.is_chat_admin):
         raise NotAllowed("only the admin of the last round or a group admin can re-run it")
+    require_may_start(ctx.config.only_admins_start, actor)
     if previous.phase not in RERUN_FROM:
         raise IllegalMove(
             f"only a round everyone agreed to can be re-run; the last one is "

@@ -90,6 +90,24 @@ def decode(text: str) -> Outgoing:
         raise StorageFault(f"an outbox entry cannot be read back: {exc}") from exc
 
 
+def encode_facts(facts: Facts) -> str:
+    """Facts alone as JSON text (the stored written agreement)."""
+    return json.dumps(
+        {"facts_type": type(facts).__name__, "facts": dataclasses.asdict(facts)},
+        separators=(",", ":"),
+        sort_keys=True,
+    )
+
+
+def decode_facts(text: str) -> Facts:
+    """The facts :func:`encode_facts` wrote; damaged text is a :class:`StorageFault`."""
+    try:
+        data = json.loads(text)
+        return _facts(data["facts_type"], data["facts"])
+    except (KeyError, TypeError, ValueError) as exc:
+        raise StorageFault(f"stored facts cannot be read back: {exc}") from exc
+
+
 def _facts(type_name: str, fields: dict[str, Any]) -> Facts:
     cls = _FACT_TYPES[type_name]
     line_type = _LINE_TYPES.get(type_name)

@@ -22,6 +22,15 @@ def require_admin(record: RoundRecord, actor: Actor, doing: str) -> None:
         )
 
 
+def require_may_start(only_admins_start: bool, actor: Actor) -> None:
+    """With the group's option set, only the chat's admins start rounds (and so run them)."""
+    if only_admins_start and not actor.is_chat_admin:
+        raise NotAllowed(
+            "in this group only the group's admins can start a round; ask one of them to "
+            "send /newround"
+        )
+
+
 def require_member(members: list[MemberRecord], actor: Actor) -> MemberRecord:
     for member in members:
         if member.user_id == actor.user_id:

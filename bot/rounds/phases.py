@@ -82,6 +82,8 @@ class Step(Enum):
 
 
 OPEN_PHASES = frozenset({Phase.DRAFTING, Phase.GATHERING, Phase.ASKING, Phase.PROPOSED})
+#: Phases a round ends in (agreed, cancelled, lapsed): nothing changes it any more.
+ENDED_PHASES = frozenset(Phase) - OPEN_PHASES
 #: Phases a re-run may start from.
 RERUN_FROM = frozenset({Phase.SETTLED})
 

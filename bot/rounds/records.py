@@ -29,6 +29,8 @@ class RoundRecord:
     previous_round: int | None
     created_at: int
     updated_at: int
+    #: when the retention policy deleted its answers and walk (None: kept)
+    forgotten_at: int | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -131,6 +133,30 @@ class AuditKind:
 
 #: The audit kinds that are a member's own answers (shown to that member only).
 OWN_ANSWER_KINDS = (AuditKind.ANSWER, AuditKind.INFERRED, AuditKind.OBJECTION)
+#: Audit kinds that carry or point at private answers, deleted with a finished round's
+#: answers (:mod:`bot.rounds.retention`); what the group saw (created, joined, proposals,
+#: acceptances, the agreement, cancellation) stays.
+PRIVATE_AUDIT_KINDS = (
+    AuditKind.QUESTION,
+    AuditKind.ANSWER,
+    AuditKind.INFERRED,
+    AuditKind.OBJECTION,
+    AuditKind.OBJECTION_STARTED,
+    AuditKind.EARLIER_CHOICE,
+    AuditKind.WITHDRAWN,
+    AuditKind.REMINDED,
+)
+
+
+@dataclass(frozen=True, slots=True)
+class AgreementRecord:
+    """A settled round's written agreement as stored: ``facts`` is
+    :func:`~bot.rounds.outbox_codec.encode_facts` JSON."""
+
+    round_id: int
+    group_id: int
+    agreed_at: int
+    facts: str
 
 
 @dataclass(frozen=True, slots=True)

@@ -14,6 +14,7 @@ from typing import Protocol
 
 from bot.rounds.phases import Phase
 from bot.rounds.records import (
+    AgreementRecord,
     AuditRecord,
     MemberRecord,
     OutboxRecord,
@@ -26,7 +27,7 @@ from bot.rounds.round_settings import RoundSettings
 
 
 class Transaction(Protocol):
-    """Reads and writes inside one write transaction."""
+    """Reads and writes inside one transaction (a read transaction refuses the writes)."""
 
     # idempotency
     async def seen_event(self, key: str) -> bool: ...
@@ -57,6 +58,18 @@ class Transaction(Protocol):
     ) -> None: ...
 
     async def settled_rounds(self, group_id: int) -> list[RoundRecord]: ...
+    async def unrecorded_settled_rounds(self, group_id: int) -> list[RoundRecord]: ...
+    async def rounds_to_forget(
+        self, ended_before: int, phases: Sequence[Phase] | frozenset[Phase]
+    ) -> list[RoundRecord]: ...
+
+    # written agreements, kept for good (one per settled round)
+    async def add_agreement(self, round_id: int, group_id: int, at: int, facts: str) -> None: ...
+    async def agreements(self, group_id: int) -> list[AgreementRecord]: ...
+
+    # retention: a finished round's private answers, and the old event and message log
+    async def forget_round(self, round_id: int, at: int, audit_kinds: Sequence[str]) -> None: ...
+    async def forget_log(self, before: int) -> None: ...
 
     # a member's choice to reuse their answers from the previous round (no row: reuse)
     async def set_earlier_choice(
@@ -143,5 +156,10 @@ class Store(Protocol):
     """A database with an explicit lifecycle and serialised write transactions."""
 
     def transaction(self) -> AbstractAsyncContextManager[Transaction]: ...
+
+    def read_transaction(self) -> AbstractAsyncContextManager[Transaction]:
+        """A transaction that only reads: it takes no write lock and refuses any write
+        (SQLite ``BEGIN DEFERRED`` with ``query_only``; PostgreSQL ``READ ONLY``)."""
+        ...
 
     async def close(self) -> None: ...

@@ -71,6 +71,9 @@ class LaterQueries(SqlRunner):
             "UPDATE rounds SET group_id = ? WHERE group_id = ?", (new_group_id, old_group_id)
         )
         await self._run(
+            "UPDATE agreements SET group_id = ? WHERE group_id = ?", (new_group_id, old_group_id)
+        )
+        await self._run(
             "UPDATE outbox SET chat_id = ? WHERE chat_id = ? AND state != 'sent'",
             (new_group_id, old_group_id),
         )

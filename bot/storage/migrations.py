@@ -169,6 +169,25 @@ MIGRATIONS: tuple[Migration, ...] = (
         "members' optional rough values per room (a soft start for the rounds of questions)",
         ("ALTER TABLE members ADD COLUMN rough_values TEXT",),
     ),
+    Migration(
+        7,
+        "agreements kept as written; rounds whose private answers were deleted",
+        (
+            # The written agreement's facts (bot.rounds.outbox_codec.encode_facts), stored in
+            # the transaction that settles the round: /agreements reads only this, and it
+            # outlives the deletion of the round's answers. Rounds settled before this
+            # migration have no row; the engine works theirs out from the walk while it lasts.
+            """CREATE TABLE agreements (
+                round_id  INTEGER PRIMARY KEY REFERENCES rounds(id),
+                group_id  INTEGER NOT NULL,
+                agreed_at INTEGER NOT NULL,
+                facts     TEXT NOT NULL
+            )""",
+            "CREATE INDEX agreements_by_group ON agreements(group_id, round_id)",
+            # Set when the retention policy deleted the round's answers and its walk.
+            "ALTER TABLE rounds ADD COLUMN forgotten_at INTEGER",
+        ),
+    ),
 )
 
 

@@ -181,6 +181,24 @@ class PostgresStore:
         finally:
             await self._release(conn)
 
+    @asynccontextmanager
+    async def read_transaction(self) -> AsyncIterator[PostgresTransaction]:
+        """A ``READ ONLY`` transaction (postgresql.org/docs, "SET TRANSACTION"): any write
+        in it fails; it takes no advisory lock unless a round read asks for one."""
+        if self._closed:
+            raise StorageFault("the store is closed; open it again before use")
+        try:
+            conn = await self._pool.acquire()
+        except TRANSIENT_ERRORS as error:
+            raise StorageUnavailable(f"cannot get a PostgreSQL connection: {error!r}") from error
+        try:
+            async with conn.transaction(readonly=True):
+                yield PostgresTransaction(conn)
+        except TRANSIENT_ERRORS as error:
+            raise StorageUnavailable(f"PostgreSQL transaction aborted: {error!r}") from error
+        finally:
+            await self._release(conn)
+
     async def _release(self, conn: Any) -> None:
         """Give the connection back; a broken one is closed (the pool opens a new one).
 

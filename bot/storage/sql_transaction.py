@@ -9,6 +9,7 @@ three low-level calls, translating the SQL for asyncpg.
 from __future__ import annotations
 
 import json
+from collections.abc import Sequence
 from typing import Any
 
 from bot.rounds.messages import Action
@@ -23,6 +24,7 @@ from bot.rounds.records import (
 from bot.rounds.round_settings import RoundSettings
 from bot.storage.later_sql import LaterQueries
 from bot.storage.migrations import OPEN_PHASES_SQL
+from bot.storage.retention_sql import RetentionQueries
 
 TABLES = (
     "schema_version",
@@ -36,10 +38,11 @@ TABLES = (
     "outbox",
     "contacts",
     "earlier_choices",
+    "agreements",
 )
 _ROUND_COLUMNS = (
     "id, group_id, admin_id, phase, settings, walk, walk_rev, proposal_no, previous_round, "
-    "created_at, updated_at"
+    "created_at, updated_at, forgotten_at"
 )
 _ROUND_COLUMNS_OF_R = ", ".join(f"r.{c.strip()}" for c in _ROUND_COLUMNS.split(","))
 _QUESTION_COLUMNS = (
@@ -47,7 +50,7 @@ _QUESTION_COLUMNS = (
 )
 
 
-class SqlTransaction(LaterQueries):
+class SqlTransaction(LaterQueries, RetentionQueries):
     """The :class:`~bot.rounds.store_port.Transaction` protocol in one SQL text for both databases.
 
     Written for SQLite's dialect (``?`` placeholders) on one aiosqlite connection; the
@@ -137,6 +140,27 @@ class SqlTransaction(LaterQueries):
         rows = await self._all(
             f"SELECT {_ROUND_COLUMNS} FROM rounds WHERE group_id = ? AND phase = ? ORDER BY id",
             (group_id, Phase.SETTLED.value),
+        )
+        return [record for row in rows if (record := _round(row)) is not None]
+
+    async def unrecorded_settled_rounds(self, group_id: int) -> list[RoundRecord]:
+        """Settled rounds with a walk but no stored agreement (agreed before migration 7)."""
+        rows = await self._all(
+            f"SELECT {_ROUND_COLUMNS} FROM rounds WHERE group_id = ? AND phase = ? "
+            "AND walk IS NOT NULL AND id NOT IN (SELECT round_id FROM agreements) ORDER BY id",
+            (group_id, Phase.SETTLED.value),
+        )
+        return [record for row in rows if (record := _round(row)) is not None]
+
+    async def rounds_to_forget(
+        self, ended_before: int, phases: Sequence[Phase] | frozenset[Phase]
+    ) -> list[RoundRecord]:
+        """Rounds in ``phases`` (the ended ones) last changed before ``ended_before`` and
+        not forgotten yet, oldest first."""
+        rows = await self._all(
+            f"SELECT {_ROUND_COLUMNS} FROM rounds WHERE forgotten_at IS NULL AND updated_at < ? "
+            f"AND phase IN ({', '.join('?' for _ in phases)}) ORDER BY id",
+            (ended_before, *sorted(phase.value for phase in phases)),
         )
         return [record for row in rows if (record := _round(row)) is not None]
 
@@ -312,6 +336,7 @@ def _round(row: Any) -> RoundRecord | None:
         previous_round=row[8],
         created_at=row[9],
         updated_at=row[10],
+        forgotten_at=row[11],
     )
 
 

@@ -114,6 +114,26 @@ class SqliteStore:
                 raise
             await self._db.execute("COMMIT")
 
+    @asynccontextmanager
+    async def read_transaction(self) -> AsyncIterator[SqlTransaction]:
+        """``BEGIN DEFERRED`` with ``query_only`` on: reads one snapshot, writes refused.
+
+        A deferred transaction that only reads takes no write lock, so in WAL mode another
+        process's writer is not blocked by it (sqlite.org/lang_transaction.html,
+        sqlite.org/wal.html); ``PRAGMA query_only`` makes any write inside it fail
+        (sqlite.org/pragma.html#pragma_query_only).
+        """
+        async with self._lock:
+            if self._closed:
+                raise StorageFault("the store is closed; open it again before use")
+            await self._db.execute("BEGIN DEFERRED")
+            await self._db.execute("PRAGMA query_only=ON")
+            try:
+                yield SqlTransaction(self._db)
+            finally:
+                await self._db.execute("PRAGMA query_only=OFF")
+                await self._db.execute("ROLLBACK")
+
     async def pragma(self, name: str) -> Any:
         """Read one PRAGMA value (for start-up checks and tests)."""
         async with self._lock, self._db.execute(f"PRAGMA {name}") as cursor:

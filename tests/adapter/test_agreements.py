@@ -89,3 +89,11 @@ async def test_agreement_is_sent_as_two_documents(standin: BotApiStandIn) -> Non
     html_text = documents[-1].document.content.decode("utf-8")  # type: ignore[union-attr]
     assert f"<td>{NAMES[0]}</td><td>{ROOMS[0]}</td><td>900.00 EUR</td>" in html_text
     assert f"{ROOMS[1]} stays empty" in html_text
+
+
+async def test_the_retention_policy_runs_once_a_day(standin: BotApiStandIn, db_path: Path) -> None:
+    app = app_for(standin, db_path)
+    async with running(app):
+        assert app.job_queue is not None
+        (job,) = app.job_queue.get_jobs_by_name("flatpact-retention")
+        assert job.job.trigger.interval.total_seconds() == 24 * 3600  # APScheduler's trigger

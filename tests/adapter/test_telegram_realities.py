@@ -12,7 +12,7 @@ from pathlib import Path
 
 from bot.adapter.application import running
 from bot.adapter.keyboards import CALLBACK_PREFIX
-from bot.sandbox import BotApiStandIn
+from bot.sandbox import BotApiStandIn, SimChat, SimMessage
 from bot.storage.sqlite import SqliteStore
 from tests.adapter.harness import ROOMS, Flat, app_for, outbox_rows, runtime
 from tests.adapter.test_rounds import check_agreement, set_up_and_join
@@ -215,3 +215,46 @@ async def test_group_upgraded_to_a_supergroup_keeps_its_round(
         late = [m for m in world.messages_in(old_group)[upgraded_at:] if m.from_bot]
         assert late == []  # nothing more went to the old id once the move was known
     await check_agreement(flat, tolerance=10_00)
+
+
+async def test_guided_set_ups_in_two_groups_keep_their_own_rent(
+    standin: BotApiStandIn, db_path: Path
+) -> None:
+    # One admin, two flats, the two guided set-ups interleaved: each round gets its own rent.
+    flat = Flat.invent(standin, db_path, size=2, rent=800_00, seed=2)
+    world = standin.world
+    other = world.add_group("The other flat", flat.people)
+    admin = flat.admin
+
+    async def asked(chat: SimChat, fragment: str, after: int) -> SimMessage:
+        def found() -> SimMessage | None:
+            return next(
+                (
+                    m
+                    for m in world.messages_in(chat)[after:]
+                    if m.from_bot and fragment in (m.text or "")
+                ),
+                None,
+            )
+
+        return await standin.wait_for(found, 10)
+
+    async with running(app_for(standin, db_path)):
+        world.user_says(admin, flat.group, "/newround")
+        rent_here = await asked(flat.group, "What is the total monthly rent", 0)
+        world.user_says(admin, other, "/newround")
+        rent_there = await asked(other, "What is the total monthly rent", 0)
+        world.user_replies(admin, rent_here, "800.00 EUR")
+        rooms_here = await asked(flat.group, "Now the rooms", 0)
+        world.user_replies(admin, rent_there, "1200.00 EUR")
+        rooms_there = await asked(other, "Now the rooms", 0)
+        world.user_replies(admin, rooms_here, f"{ROOMS[0]}, {ROOMS[1]}")
+        await asked(flat.group, "The round is open", 0)
+        world.user_replies(admin, rooms_there, "North room, South room")
+        await asked(other, "The round is open", 0)
+    async with await SqliteStore.open(db_path) as store, store.transaction() as tx:
+        here = await tx.latest_round(flat.group.id)
+        there = await tx.latest_round(other.id)
+    assert here is not None and there is not None
+    assert (here.settings.rent, here.settings.rooms) == (800_00, (ROOMS[0], ROOMS[1]))
+    assert (there.settings.rent, there.settings.rooms) == (1200_00, ("North room", "South room"))

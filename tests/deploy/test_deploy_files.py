@@ -17,6 +17,7 @@ from typing import Any
 
 import pytest
 
+from bot.adapter.process_settings import Settings
 from bot.adapter.webhook_guard import SECRET_HEADER
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -31,6 +32,10 @@ BOT_SETTINGS = {
     "FLATPACT_WEBHOOK_URL",
     "FLATPACT_WEBHOOK_SECRET",
     "FLATPACT_LOG_LEVEL",
+    "FLATPACT_LOCALE",
+    "FLATPACT_ONLY_ADMINS_START",
+    "FLATPACT_KEEP_ANSWERS_DAYS",
+    "FLATPACT_KEEP_LOG_DAYS",
 }
 #: Base images by digest, printed by deploy/pin-images.sh into deploy/.env.
 IMAGE_PINS = {"FLATPACT_PYTHON_IMAGE", "FLATPACT_POSTGRES_IMAGE", "FLATPACT_CADDY_IMAGE"}
@@ -69,6 +74,9 @@ def test_only_agreed_setting_names_are_used() -> None:
     used = {name for p in files for name in re.findall(r"FLATPACT_[A-Z_]+", p.read_text())}
     assert used - BOT_SETTINGS - DEPLOY_ONLY == set()
     assert used >= BOT_SETTINGS
+    # ... and each one the bot reads is a field of its settings (pydantic-settings' env prefix)
+    fields = {f"FLATPACT_{name.upper()}" for name in Settings.model_fields}
+    assert fields >= BOT_SETTINGS
 
 
 def test_dockerfile_is_slim_non_root_healthchecked_and_runs_the_bot() -> None:
