@@ -15,6 +15,7 @@ from typing import Literal
 
 from bot.rounds.errors import StorageFault
 from solver import InvalidState, ParallelSearch, Walk, resume
+from solver.parallel import TYPICAL, TYPICAL_ROUGH
 from solver.protocol import Record
 
 AnySearch = ParallelSearch | Walk
@@ -43,7 +44,14 @@ def round_of(search: AnySearch) -> int | None:
 
 
 def expected_rounds(search: AnySearch) -> int | None:
-    """About how many rounds the search takes in all (its own estimate); None for the walk."""
-    if isinstance(search, ParallelSearch) and search.walk is None:
-        return search.expected_rounds()
-    return None
+    """About how many rounds the search takes in all (its own estimate); None for the walk,
+    and None once a round has gone past its estimate: an estimate that creeps up by one
+    every round tells people nothing."""
+    if not isinstance(search, ParallelSearch) or search.walk is not None:
+        return None
+    estimate = search.expected_rounds()
+    if search.proposal() is None and estimate <= search.round_number + 1:
+        typical = (TYPICAL_ROUGH if search.rough is not None else TYPICAL)[search.problem.size]
+        if search.round_number >= typical:
+            return None
+    return estimate

@@ -173,3 +173,22 @@ async def test_rough_values_are_private_optional_and_only_steer_the_start(
     # Nobody but the member ever saw them: no group message names an amount they gave.
     group_text = " ".join(str(m.facts) for m in out + started if not m.to.private)
     assert "45050" not in group_text and "450.50" not in group_text
+
+
+def test_past_its_estimate_a_round_names_no_estimate() -> None:
+    from bot.rounds.searches import expected_rounds, round_of
+    from solver import Problem, start
+    from solver.parallel import TYPICAL
+
+    problem = Problem(300_000, ("A", "B", "C", "D"), ("1", "2", "3", "4"))
+    search = start(problem)
+    seen: list[tuple[int | None, int | None]] = []
+    while search.proposal() is None and (round_of(search) or 99) <= TYPICAL[4] + 2:
+        seen.append((round_of(search), expected_rounds(search)))
+        for q in list(search.open_questions()):
+            search.answer(q.id, q.choices[0])  # everyone always wants the first room
+    early = [e for r, e in seen if r is not None and r < TYPICAL[4]]
+    late = [e for r, e in seen if r is not None and r >= TYPICAL[4]]
+    assert early and all(e is not None and e > 1 for e in early)
+    assert late, "erratic answers should take this search past its usual count"
+    assert all(e is None for e in late)
