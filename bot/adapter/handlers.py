@@ -276,7 +276,8 @@ async def status(update: Update, context: AnyContext) -> None:
 
 
 async def show_help(update: Update, context: AnyContext) -> None:
-    await _reply(update, help_text())
+    message = update.effective_message
+    await _reply(update, help_text(_arguments(message) if message is not None else ""))
 
 
 # --- private chat ----------------------------------------------------------------------------

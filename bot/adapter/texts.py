@@ -337,16 +337,43 @@ COMMANDS: tuple[tuple[str, str], ...] = (
 )
 
 
-def help_text() -> str:
-    commands = "\n".join(f"/{name} - {description}" for name, description in COMMANDS)
+#: One line per set-up option, said where the options are shown (``/help setup``).
+SETUP_HELP: tuple[tuple[str, str], ...] = (
+    ("tolerance 1.00", "the most anyone could still prefer a swap, in money (default 1.00)"),
+    (
+        "floor 0",
+        "the lowest price a room can get; below zero means the others pay you to take it",
+    ),
+    ("shared 300", "a part of the rent split evenly before the rooms are priced"),
+    ("per person 20", "a fixed amount each (bills, say) on top of the room"),
+    ("not let Box room", "a room kept out of the round (common space, storage)"),
+    ("empty rooms yes", "fewer members than rooms: the method decides which stay empty"),
+    ("one by one yes", "questions to one of you at a time instead of everyone at once"),
+)
+
+
+def help_text(topic: str = "") -> str:
+    """Short help for the person asking; ``/help setup`` for the admin's options, ``/help
+    how`` for how the method works."""
+    if topic.strip().casefold() == "how":
+        return f"{HOW_IT_WORKS}\n\n{CAUTION}"
+    if topic.strip().casefold() == "setup":
+        options = "\n".join(f"; {option} - {meaning}" for option, meaning in SETUP_HELP)
+        return (
+            "Setting up: /newround <rent with currency>; <rooms, separated by commas>, then "
+            "any of these, each after a semicolon:\n"
+            f"{options}\n"
+            "Example: /newround 1850.00 EUR; Loft, Attic, Bay room; tolerance 5\n"
+            "Before /begin, /adjust changes any of them, e.g. /adjust shared 300."
+        )
     return (
         "I help flatmates agree who takes which room and how the rent is split, so that "
-        "nobody would rather swap.\n\n"
-        "1. An admin sends /newround with the rent and the rooms, e.g.\n"
-        "   /newround 1850.00 EUR; Loft, Attic, Bay room; tolerance 5; floor 0\n"
-        "   or just /newround and I will ask.\n"
-        '2. Everyone taps "Count me in" and opens a private chat with me.\n'
-        "3. The admin sends /begin. I ask each of you a few questions privately.\n"
-        "4. I post a suggested split; everyone agrees or asks to swap.\n\n"
-        f"{commands}\n\n{HOW_IT_WORKS}\n\n{CAUTION}"
+        "nobody would rather swap.\n"
+        "• Admin: /newround 1850.00 EUR; Loft, Attic, Bay room (options: /help setup), then "
+        "/begin once everyone is in.\n"
+        '• Everyone: tap "Count me in", open the private chat with me, answer each round\'s '
+        "question there, then agree to the split or ask to swap.\n"
+        "• /status shows where the round is; /myanswers sends you your own answers; "
+        "/help how explains the method.\n"
+        f"{SHORT_CAUTION}"
     )

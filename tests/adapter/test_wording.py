@@ -93,3 +93,17 @@ def test_the_agreed_state_is_called_agreed() -> None:
     facts = RoundFacts(1, -1, Phase.SETTLED.value, 1850_00, "EUR", 2, ROOMS, 100, 0, ("Ines",))
     assert texts.board(StatusFacts(facts, 9, ()), "en").startswith("Done: everyone agreed")
     assert "Settled" not in _division(Kind.SETTLED)
+
+
+def test_help_is_short_and_setup_explains_every_option_in_one_line() -> None:
+    from bot.rounds.setup_input import SETUP_OPTIONS
+
+    short = texts.help_text()
+    assert len(short.splitlines()) <= 6 and "/help setup" in short and SHORT_CAUTION in short
+    setup = texts.help_text("setup")
+    for option in SETUP_OPTIONS:
+        line = next((ln for ln in setup.splitlines() if ln.startswith(f"; {option} ")), None)
+        assert line is not None, option
+        assert " - " in line  # the option, then what it means
+    assert "below zero means the others pay you" in setup
+    assert "two assumptions" in texts.help_text("how") and CAUTION in texts.help_text("how")
