@@ -43,12 +43,10 @@ def centre_plan(
     lp = largest_margin_prices(estimates, problem.rent, problem.floor)
     let = sorted(lp.assignment)
     base = whole_prices(lp.prices, let, problem.rent, problem.floor + 1)
-    pinned = any(
-        vs.width(own, k) < problem.tolerance
-        for vs, own in zip(value_sets, lp.assignment, strict=True)
-        for k in range(problem.size)
-        if k != own
-    )
+    pinned = False
+    for vs, own in zip(value_sets, lp.assignment, strict=True):
+        widths = np.delete(vs.widths()[own], own)
+        pinned = pinned or bool(np.any(widths < problem.tolerance))
     if not pinned and base not in seen_bases:
         return Plan("centre", base, (base,) * len(value_sets), lp.assignment)
     cut = largest_cut(base, let, problem.tolerance, problem.floor)
