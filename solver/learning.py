@@ -144,12 +144,13 @@ class ValueSet:
         for k in range(self.rooms):
             relaxed = np.minimum(relaxed, relaxed[:, k, None] + relaxed[None, k, :])
         potentials = np.minimum(relaxed.min(axis=0), 0.0)
-        return potentials + (total - float(potentials.sum())) / self.rooms
+        shift = (total - float(potentials.sum())) / self.rooms
+        return np.asarray(potentials + shift, dtype=float)
 
     def widths(self) -> np.ndarray:
         """``out[j][k]``: how far apart the lowest and highest consistent ``v_j - v_k`` are."""
         dist = self.tightest()
-        return dist + dist.T
+        return np.asarray(dist + dist.T, dtype=float)
 
     def _half_spaces(self) -> tuple[np.ndarray, np.ndarray]:
         """Rows ``a`` and bounds ``b`` of ``a @ v <= b`` for the finite difference limits."""
