@@ -72,8 +72,18 @@ def _check_certificate(search: ParallelSearch, proposal: Proposal) -> None:
         latest = [r for r in search.records if r.member == e.member and r.prices == e.prices]
         if not latest or latest[-1].room != e.room or proposal.assignment[e.member] != e.room:
             raise BrokenInvariant(f"the evidence of {e.member} is not their latest answer")
-        if proposal.envy_bound == 0 and e.prices != proposal.prices:
-            raise BrokenInvariant("an exact certificate needs answers at exactly these prices")
+    if exact_certificate(proposal) and proposal.envy_bound != 0:
+        raise BrokenInvariant("answers at exactly the proposed prices certify envy 0")
+
+
+def exact_certificate(proposal: Proposal) -> bool:
+    """True when every member chose their room at exactly the proposed prices.
+
+    That is the strongest evidence ("each of you chose this room at exactly these prices"),
+    valid whatever the tastes. Any other proposal's bound assumes that money counts
+    one-for-one near the prices (:mod:`solver.envy`), even when that bound happens to be 0.
+    """
+    return bool(proposal.evidence) and all(e.prices == proposal.prices for e in proposal.evidence)
 
 
 def check_proposal(problem: Problem, proposal: Proposal) -> None:
