@@ -49,6 +49,11 @@ class Search(Protocol):
     def to_json(self) -> str: ...
 
 
+def _both_are_searches(walk: Walk, parallel: ParallelSearch) -> tuple[Search, Search]:
+    """Never called: mypy checks here that both methods satisfy :class:`Search`."""
+    return walk, parallel
+
+
 def start(
     problem: Problem,
     *,
