@@ -15,7 +15,8 @@ asks next at the middle of the estimates' envy-free region. Answers no such valu
 switch the search to model-free price adjustment. After ``max_rounds`` rounds it hands over
 to :class:`solver.walk.Walk`, started at the last prices with every answer passed on, so the
 walk's termination guarantee holds; from then on the object behaves as the walk (one question
-at a time, each counting as a round).
+at a time, each counting as a round), except that the walk's proposal is first confirmed by
+one round at exactly its prices (:mod:`solver.confirm`).
 
 Rounds and slow members. A round ends when every member has answered it, or when an admin
 calls :meth:`close_round`. A member who has not answered keeps their question open (same id,
@@ -37,6 +38,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import replace
 
 from solver import parallel_saved as saved
+from solver.confirm import MAX_CONFIRMATIONS, Confirmation
 from solver.envy import Choice, envy_bound
 from solver.errors import InvalidAnswer, InvalidState
 from solver.labelling import floor_rooms
@@ -80,7 +82,11 @@ class ParallelSearch:
         self._proposal: Proposal | None = None
         self._values = [ValueSet(problem.size) for _ in problem.members]
         self._memory: dict[str, dict[tuple[int, ...], int]] = {}
-        self._walk_offset = 0
+        self._confirm: Confirmation | None = None
+        self._confirmations = 0
+        self._confirm_rounds = 0
+        self._confirmed: Proposal | None = None
+        self._confirm_records: list[tuple[int, Record]] = []
         self._answers_this_round = 0
 
     # ----------------------------------------------------------------- construction
@@ -124,7 +130,8 @@ class ParallelSearch:
     def round_number(self) -> int:
         """The current round, 1-based (after the hand-over every walk question is a round)."""
         if self.walk is not None:
-            return len(self.plans) + max(self.walk.counters.asked, 1)
+            walked = self.walk.counters.asked + self._confirm_rounds
+            return len(self.plans) + max(walked, 1)
         return len(self.plans)
 
     def expected_rounds(self) -> int:
@@ -149,15 +156,17 @@ class ParallelSearch:
 
     def open_questions(self) -> list[Question]:
         """The questions waiting for an answer: one per member who still has to answer."""
-        if self.walk is not None:
-            return self.walk.open_questions()
         order = self.problem.members
+        if self.walk is not None:
+            if self._confirm is not None:
+                return [self._confirm.open[m] for m in order if m in self._confirm.open]
+            return self.walk.open_questions()
         return [q for _, q in sorted(self._open.values(), key=lambda o: order.index(o[1].member))]
 
     def answer(self, question_id: str, room_index: int) -> None:
         """Record an answer (any order); bad ids or rooms raise and change nothing."""
         if self.walk is not None:
-            self.walk.answer(question_id, room_index)
+            self._answer_after_hand_over(question_id, room_index)
             self.log.append(("answer", question_id, room_index))
             return
         found = next((o for o in self._open.values() if o[1].id == question_id), None)
@@ -193,13 +202,20 @@ class ParallelSearch:
 
     def proposal(self) -> Proposal | None:
         """The proposed division once found, else ``None``."""
-        return self.walk.proposal() if self.walk is not None else self._proposal
+        return self._confirmed if self.walk is not None else self._proposal
 
     def dispute(self, member: str, room_index: int) -> None:
         """``member`` would rather take ``room_index`` at the proposed prices: a fact; go on."""
         if self.walk is not None:
+            if self._confirmed is None:
+                raise InvalidState(
+                    "there is no proposal to object to yet; answer the open questions"
+                )
             self.walk.dispute(member, room_index)
             self.log.append(("dispute", member, room_index))
+            self._confirmed = None
+            self._confirmations = 0
+            self._after_walk_step()
             return
         proposal = self._proposal
         if proposal is None:
@@ -244,12 +260,16 @@ class ParallelSearch:
         """Every label: this search's own, then the walk's after a hand-over (renumbered)."""
         if self.walk is None:
             return list(self.records)
-        shifted = [
-            replace(r, seq=r.seq + self._walk_offset, stage=r.stage + len(self.plans))
-            for r in self.walk.records
-            if r.source != "earlier"
-        ]
-        return self.records + shifted
+        later: list[Record] = []
+        confirmations = list(self._confirm_records)
+        for index, r in enumerate(self.walk.records):
+            while confirmations and confirmations[0][0] <= index:
+                later.append(confirmations.pop(0)[1])
+            if r.source != "earlier":
+                later.append(replace(r, stage=r.stage + len(self.plans)))
+        later += [record for _, record in confirmations]
+        start = len(self.records)
+        return self.records + [replace(r, seq=start + k + 1) for k, r in enumerate(later)]
 
     def check(self) -> None:
         """Invariant checker (cheap; tests call it after every step): see
@@ -357,6 +377,57 @@ class ParallelSearch:
         self._record(member, prices, room, source, choices)
         self._round_picks[member] = room
 
+    def _answer_after_hand_over(self, question_id: str, room_index: int) -> None:
+        confirm, walk = self._confirm, self.walk
+        assert walk is not None
+        question = confirm.question(question_id) if confirm is not None else None
+        if confirm is None or question is None:
+            walk.answer(question_id, room_index)
+            self._after_walk_step()
+            return
+        _check_room(room_index, question.choices)
+        confirm.take(question, room_index)
+        record = Record(
+            0, len(self.plans), question.member, question.prices, room_index, "asked", None
+        )
+        self._confirm_records.append((len(walk.records), record))
+        if not confirm.complete():
+            return
+        self._confirm = None
+        self._settle(confirm)
+
+    def _settle(self, confirm: Confirmation) -> None:
+        """After a complete confirmation round: certify, ask again, or accept the walk's."""
+        walk = self.walk
+        assert walk is not None
+        proposal = walk.proposal()
+        assert proposal is not None
+        certified = confirm.certified()
+        if certified is not None:
+            self._confirmed = certified
+        elif self._confirmations >= MAX_CONFIRMATIONS:
+            self._confirmed = proposal
+        else:
+            self._confirm_at(confirm.next_prices(), proposal.mesh)
+
+    def _confirm_at(self, prices: tuple[int, ...], mesh: int) -> None:
+        self._confirmations += 1
+        self._confirm_rounds += 1
+        confirm = Confirmation.ask(self.problem, prices, self._confirm_rounds, mesh)
+        if confirm.complete():  # everyone decided by the boundary rule
+            self._settle(confirm)
+        else:
+            self._confirm = confirm
+
+    def _after_walk_step(self) -> None:
+        """When the walk proposes, confirm at exactly its prices (see :mod:`solver.confirm`)."""
+        walk = self.walk
+        assert walk is not None
+        proposal = walk.proposal()
+        if proposal is None or self._confirm is not None or self._confirmed is not None:
+            return
+        self._confirm_at(proposal.prices, proposal.mesh)
+
     def _hand_over(self) -> None:
         """Start the walk at the last prices with every answer passed on."""
         earlier: dict[str, list[tuple[tuple[int, ...], int]]] = {}
@@ -365,8 +436,8 @@ class ParallelSearch:
                 earlier.setdefault(r.member, []).append((r.prices, r.room))
         start = self.plans[-1].base if self.plans else None
         self._open = {}
-        self._walk_offset = self.records[-1].seq if self.records else 0
         self.walk = Walk.start(self.problem, start_prices=start, earlier=earlier)
+        self._after_walk_step()
 
     def _record(
         self,

@@ -62,10 +62,15 @@ def adjust_plan(problem: Problem, last: Plan, picks: Mapping[int, int], steps_ta
     moved = adjusted_prices(
         last.base, {str(i): r for i, r in picks.items()}, members, step, problem.floor
     )
-    if problem.empty_count:  # the dearest rooms are the let ones; they carry the rent
-        let = sorted(sorted(range(problem.size), key=lambda j: (-moved[j], j))[:members])
-        shift = Fraction(problem.rent - sum(moved[j] for j in let), members)
-        moved = whole_prices(
-            [Fraction(p) + shift for p in moved], let, problem.rent, problem.floor + 1
-        )
+    moved = let_rooms_carry_the_rent(problem, moved)
     return Plan("adjust", moved, (moved,) * members, None)
+
+
+def let_rooms_carry_the_rent(problem: Problem, prices: tuple[int, ...]) -> tuple[int, ...]:
+    """With empty rooms: shift all prices so the dearest ``members`` rooms sum to the rent."""
+    if not problem.empty_count:
+        return prices
+    members = len(problem.members)
+    let = sorted(sorted(range(problem.size), key=lambda j: (-prices[j], j))[:members])
+    shift = Fraction(problem.rent - sum(prices[j] for j in let), members)
+    return whole_prices([Fraction(p) + shift for p in prices], let, problem.rent, problem.floor + 1)

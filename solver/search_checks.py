@@ -22,6 +22,16 @@ def check_parallel(search: ParallelSearch) -> None:
     problem = search.problem
     if search.walk is not None:
         search.walk.check()
+        confirm = search._confirm
+        if confirm is not None:
+            if search.walk.proposal() is None:
+                raise BrokenInvariant("a confirmation round without a proposal to confirm")
+            if min(confirm.prices) < problem.floor or (
+                not problem.empty_count and sum(confirm.prices) != problem.rent
+            ):
+                raise BrokenInvariant(f"confirmation prices {confirm.prices} break rent or floor")
+            if any(q.prices != confirm.prices for q in search.open_questions()):
+                raise BrokenInvariant("a confirmation question is not at the round's prices")
     else:
         _check_round(search)
     proposal = search.proposal()

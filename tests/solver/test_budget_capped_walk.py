@@ -9,7 +9,7 @@ prices, a few units away, put it just within the budget. Their envy then jumps b
 value difference, whatever the mesh. Every failing run below has exactly this shape.
 """
 
-from solver import ParallelSearch, Problem, Walk, exact_certificate
+from solver import ParallelOptions, ParallelSearch, Problem, Walk, exact_certificate
 from solver.simulate import BudgetCapped, answer_in_rounds, random_tenants
 
 
@@ -57,3 +57,29 @@ def test_rounds_certify_budget_capped_tenants_at_the_exact_prices() -> None:
         assert proposal is not None
         assert exact_certificate(proposal)  # measured: both end in an exact certificate
         assert all(tenants[m].envy(proposal.prices, r) == 0 for m, r in proposal.assignment.items())
+
+
+def test_confirming_the_walks_proposal_catches_the_budget_crossing() -> None:
+    # max_rounds=0 hands over at once: the walk runs exactly as alone (same start, no
+    # earlier answers), then its proposal is confirmed at exactly its prices
+    problem = _problem()
+    for seed in (7, 31):
+        tenants = random_tenants(problem, "budget-capped", seed)
+        alone = Walk.start(problem)
+        answer_in_rounds(alone, tenants)
+        before = alone.proposal()
+        assert before is not None
+        assert max(tenants[m].envy(before.prices, r) for m, r in before.assignment.items()) > 100
+        search = ParallelSearch.start(problem, options=ParallelOptions(max_rounds=0))
+        while search.proposal() is None:
+            for q in search.open_questions():
+                search.answer(q.id, tenants[q.member].choose(q.prices, q.choices, 0))
+                search.check()
+        proposal = search.proposal()
+        assert proposal is not None
+        assert search.walk is not None
+        assert exact_certificate(proposal)  # the confirmation rounds caught the crossing
+        assert all(tenants[m].envy(proposal.prices, r) == 0 for m, r in proposal.assignment.items())
+        resumed = ParallelSearch.from_json(search.to_json())
+        assert resumed.proposal() == proposal
+        assert resumed.all_records() == search.all_records()
