@@ -38,9 +38,9 @@ from collections.abc import Mapping, Sequence
 from dataclasses import replace
 
 from solver import parallel_saved as saved
-from solver.confirm import MAX_CONFIRMATIONS, Confirmation
 from solver.envy import Choice, envy_bound
 from solver.errors import InvalidAnswer, InvalidState
+from solver.hand_over import HandedOver, check_room
 from solver.labelling import floor_rooms
 from solver.learning import Box, ValueSet, default_box, prior_box
 from solver.planning import adjust_plan, centre_plan
@@ -75,18 +75,13 @@ class ParallelSearch:
         self.records: list[Record] = []
         self.plans: list[Plan] = []
         self.log: list[Event] = []
-        self.walk: Walk | None = None
+        self.after: HandedOver | None = None
         self._stored = list(stored_plans)
         self._open: dict[str, tuple[int, Question]] = {}  # member -> (round, question)
         self._round_picks: dict[str, int] = {}
         self._proposal: Proposal | None = None
         self._values = [ValueSet(problem.size) for _ in problem.members]
         self._memory: dict[str, dict[tuple[int, ...], int]] = {}
-        self._confirm: Confirmation | None = None
-        self._confirmations = 0
-        self._confirm_rounds = 0
-        self._confirmed: Proposal | None = None
-        self._confirm_records: list[tuple[int, Record]] = []
         self._answers_this_round = 0
 
     # ----------------------------------------------------------------- construction
@@ -127,11 +122,15 @@ class ParallelSearch:
     # ----------------------------------------------------------------- public protocol
 
     @property
+    def walk(self) -> Walk | None:
+        """The walk after a hand-over, else ``None``."""
+        return self.after.walk if self.after is not None else None
+
+    @property
     def round_number(self) -> int:
         """The current round, 1-based (after the hand-over every walk question is a round)."""
-        if self.walk is not None:
-            walked = self.walk.counters.asked + self._confirm_rounds
-            return len(self.plans) + max(walked, 1)
+        if self.after is not None:
+            return len(self.plans) + max(self.after.rounds(), 1)
         return len(self.plans)
 
     def expected_rounds(self) -> int:
@@ -156,17 +155,15 @@ class ParallelSearch:
 
     def open_questions(self) -> list[Question]:
         """The questions waiting for an answer: one per member who still has to answer."""
+        if self.after is not None:
+            return self.after.open_questions()
         order = self.problem.members
-        if self.walk is not None:
-            if self._confirm is not None:
-                return [self._confirm.open[m] for m in order if m in self._confirm.open]
-            return self.walk.open_questions()
         return [q for _, q in sorted(self._open.values(), key=lambda o: order.index(o[1].member))]
 
     def answer(self, question_id: str, room_index: int) -> None:
         """Record an answer (any order); bad ids or rooms raise and change nothing."""
-        if self.walk is not None:
-            self._answer_after_hand_over(question_id, room_index)
+        if self.after is not None:
+            self.after.answer(question_id, room_index)
             self.log.append(("answer", question_id, room_index))
             return
         found = next((o for o in self._open.values() if o[1].id == question_id), None)
@@ -176,7 +173,7 @@ class ParallelSearch:
                 "or never asked); answer one of the open questions instead"
             )
         round_no, question = found
-        _check_room(room_index, question.choices)
+        check_room(room_index, question.choices)
         self.log.append(("answer", question_id, room_index))
         del self._open[question.member]
         self._answers_this_round += 1
@@ -202,27 +199,20 @@ class ParallelSearch:
 
     def proposal(self) -> Proposal | None:
         """The proposed division once found, else ``None``."""
-        return self._confirmed if self.walk is not None else self._proposal
+        return self.after.confirmed if self.after is not None else self._proposal
 
     def dispute(self, member: str, room_index: int) -> None:
         """``member`` would rather take ``room_index`` at the proposed prices: a fact; go on."""
-        if self.walk is not None:
-            if self._confirmed is None:
-                raise InvalidState(
-                    "there is no proposal to object to yet; answer the open questions"
-                )
-            self.walk.dispute(member, room_index)
+        if self.after is not None:
+            self.after.dispute(member, room_index)
             self.log.append(("dispute", member, room_index))
-            self._confirmed = None
-            self._confirmations = 0
-            self._after_walk_step()
             return
         proposal = self._proposal
         if proposal is None:
             raise InvalidState("there is no proposal to object to yet; answer the open questions")
         if member not in proposal.assignment:
             raise InvalidAnswer(f"{member!r} is not a member of this round")
-        _check_room(room_index, tuple(range(self.problem.size)))
+        check_room(room_index, tuple(range(self.problem.size)))
         if room_index == proposal.assignment[member]:
             raise InvalidAnswer(
                 "that is the room already proposed for this member; to object, name the room "
@@ -258,16 +248,9 @@ class ParallelSearch:
 
     def all_records(self) -> list[Record]:
         """Every label: this search's own, then the walk's after a hand-over (renumbered)."""
-        if self.walk is None:
+        if self.after is None:
             return list(self.records)
-        later: list[Record] = []
-        confirmations = list(self._confirm_records)
-        for index, r in enumerate(self.walk.records):
-            while confirmations and confirmations[0][0] <= index:
-                later.append(confirmations.pop(0)[1])
-            if r.source != "earlier":
-                later.append(replace(r, stage=r.stage + len(self.plans)))
-        later += [record for _, record in confirmations]
+        later = self.after.records()
         start = len(self.records)
         return self.records + [replace(r, seq=start + k + 1) for k, r in enumerate(later)]
 
@@ -377,57 +360,6 @@ class ParallelSearch:
         self._record(member, prices, room, source, choices)
         self._round_picks[member] = room
 
-    def _answer_after_hand_over(self, question_id: str, room_index: int) -> None:
-        confirm, walk = self._confirm, self.walk
-        assert walk is not None
-        question = confirm.question(question_id) if confirm is not None else None
-        if confirm is None or question is None:
-            walk.answer(question_id, room_index)
-            self._after_walk_step()
-            return
-        _check_room(room_index, question.choices)
-        confirm.take(question, room_index)
-        record = Record(
-            0, len(self.plans), question.member, question.prices, room_index, "asked", None
-        )
-        self._confirm_records.append((len(walk.records), record))
-        if not confirm.complete():
-            return
-        self._confirm = None
-        self._settle(confirm)
-
-    def _settle(self, confirm: Confirmation) -> None:
-        """After a complete confirmation round: certify, ask again, or accept the walk's."""
-        walk = self.walk
-        assert walk is not None
-        proposal = walk.proposal()
-        assert proposal is not None
-        certified = confirm.certified()
-        if certified is not None:
-            self._confirmed = certified
-        elif self._confirmations >= MAX_CONFIRMATIONS:
-            self._confirmed = proposal
-        else:
-            self._confirm_at(confirm.next_prices(), proposal.mesh)
-
-    def _confirm_at(self, prices: tuple[int, ...], mesh: int) -> None:
-        self._confirmations += 1
-        self._confirm_rounds += 1
-        confirm = Confirmation.ask(self.problem, prices, self._confirm_rounds, mesh)
-        if confirm.complete():  # everyone decided by the boundary rule
-            self._settle(confirm)
-        else:
-            self._confirm = confirm
-
-    def _after_walk_step(self) -> None:
-        """When the walk proposes, confirm at exactly its prices (see :mod:`solver.confirm`)."""
-        walk = self.walk
-        assert walk is not None
-        proposal = walk.proposal()
-        if proposal is None or self._confirm is not None or self._confirmed is not None:
-            return
-        self._confirm_at(proposal.prices, proposal.mesh)
-
     def _hand_over(self) -> None:
         """Start the walk at the last prices with every answer passed on."""
         earlier: dict[str, list[tuple[tuple[int, ...], int]]] = {}
@@ -436,8 +368,8 @@ class ParallelSearch:
                 earlier.setdefault(r.member, []).append((r.prices, r.room))
         start = self.plans[-1].base if self.plans else None
         self._open = {}
-        self.walk = Walk.start(self.problem, start_prices=start, earlier=earlier)
-        self._after_walk_step()
+        walk = Walk.start(self.problem, start_prices=start, earlier=earlier)
+        self.after = HandedOver(self.problem, walk, len(self.plans))
 
     def _record(
         self,
@@ -469,11 +401,3 @@ class ParallelSearch:
     def replay(cls, text: str) -> ParallelSearch:
         """Recompute a saved search from its inputs and log alone (ignoring stored plans)."""
         return saved.load(cls, text, use_plans=False)
-
-
-def _check_room(room_index: object, choices: tuple[int, ...]) -> None:
-    if not isinstance(room_index, int) or isinstance(room_index, bool):
-        raise InvalidAnswer(f"a room is given by its number, not {room_index!r}")
-    if room_index not in choices:
-        allowed = ", ".join(str(c) for c in choices)
-        raise InvalidAnswer(f"room {room_index} is not one of the offered rooms ({allowed})")

@@ -22,7 +22,7 @@ def check_parallel(search: ParallelSearch) -> None:
     problem = search.problem
     if search.walk is not None:
         search.walk.check()
-        confirm = search._confirm
+        confirm = search.after.confirm if search.after is not None else None
         if confirm is not None:
             if search.walk.proposal() is None:
                 raise BrokenInvariant("a confirmation round without a proposal to confirm")
