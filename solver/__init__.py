@@ -14,6 +14,7 @@ from solver.parallel import ParallelSearch
 from solver.problem import Problem
 from solver.rounds import ParallelOptions
 from solver.search import Search, resume, start
+from solver.search_checks import exact_certificate
 from solver.walk import Counters, Evidence, Options, Proposal, Question, Walk
 
 __all__ = [
@@ -32,6 +33,7 @@ __all__ = [
     "Search",
     "SolverError",
     "Walk",
+    "exact_certificate",
     "resume",
     "split_exactly",
     "start",

@@ -23,7 +23,13 @@ from collections.abc import Sequence
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import asdict, dataclass
 
-from solver.bench_rounds import SCENARIOS, measure_rounds, render_rounds, rounds_plan
+from solver.bench_rounds import (
+    SCENARIOS,
+    measure_rounds,
+    render_rounds,
+    round_cpu_ms,
+    rounds_plan,
+)
 from solver.problem import Problem
 from solver.simulate import (
     MODELS,
@@ -259,9 +265,17 @@ def main(argv: Sequence[str] | None = None) -> int:
     rounds.add_argument("--sizes", default="", help="room counts, e.g. 4,6 (default per scenario)")
     rounds.add_argument("--walk-sizes", default="4,6", help="room counts with the walk alongside")
     rounds.add_argument("--rough", choices=("both", "no", "yes"), default="both")
+    rounds.add_argument("--timing", action="store_true", help="CPU ms per round, 4-10 rooms")
     args = parser.parse_args(argv)
     if args.workers > 2:
         parser.error("at most 2 worker processes: the machine is shared")
+    if args.timing:
+        for n in (4, 6, 8, 10):
+            median, p90, worst = round_cpu_ms(n, max(args.seeds // 10, 2))
+            print(
+                f"{n} rooms: CPU ms per round median {median:.1f} / p90 {p90:.1f} / max {worst:.1f}"
+            )
+        return 0
     if args.rounds:
         return rounds_main(args)
     plan = configs(args.seeds, args.quick)

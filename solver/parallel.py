@@ -15,7 +15,8 @@ asks next at the middle of the estimates' envy-free region. Answers no such valu
 switch the search to model-free price adjustment. After ``max_rounds`` rounds it hands over
 to :class:`solver.walk.Walk`, started at the last prices with every answer passed on, so the
 walk's termination guarantee holds; from then on the object behaves as the walk (one question
-at a time, each counting as a round).
+at a time, each counting as a round), except that the walk's proposal is first confirmed by
+one round at exactly its prices (:mod:`solver.confirm`).
 
 Rounds and slow members. A round ends when every member has answered it, or when an admin
 calls :meth:`close_round`. A member who has not answered keeps their question open (same id,
@@ -39,6 +40,7 @@ from dataclasses import replace
 from solver import parallel_saved as saved
 from solver.envy import Choice, envy_bound
 from solver.errors import InvalidAnswer, InvalidState
+from solver.hand_over import HandedOver, check_room
 from solver.labelling import floor_rooms
 from solver.learning import Box, ValueSet, default_box, prior_box
 from solver.planning import adjust_plan, centre_plan
@@ -51,8 +53,10 @@ from solver.walk import Walk
 FORMAT_NAME = saved.FORMAT_NAME
 Earlier = Mapping[str, Sequence[tuple[Sequence[int], int]]]
 #: Median rounds by room count (``python -m solver.bench --rounds``), without / with rough values.
-TYPICAL = {2: 3, 3: 5, 4: 7, 5: 8, 6: 10, 7: 11, 8: 12, 9: 14, 10: 15}
-TYPICAL_ROUGH = {2: 2, 3: 3, 4: 3, 5: 4, 6: 4, 7: 5, 8: 5, 9: 6, 10: 6}
+#: 4, 6, 8 and 10 rooms from 200 seeds; 2, 3, 5, 7 and 9 from 40 seeds (rough: measured
+#: before the prior box was weighted, which lowered the 4- and 6-room medians by one).
+TYPICAL = {2: 3, 3: 6, 4: 9, 5: 11, 6: 12, 7: 13, 8: 14, 9: 15, 10: 15}
+TYPICAL_ROUGH = {2: 1, 3: 1, 4: 3, 5: 5, 6: 6, 7: 7, 8: 8, 9: 9, 10: 8}
 
 
 class ParallelSearch:
@@ -73,14 +77,13 @@ class ParallelSearch:
         self.records: list[Record] = []
         self.plans: list[Plan] = []
         self.log: list[Event] = []
-        self.walk: Walk | None = None
+        self.after: HandedOver | None = None
         self._stored = list(stored_plans)
         self._open: dict[str, tuple[int, Question]] = {}  # member -> (round, question)
         self._round_picks: dict[str, int] = {}
         self._proposal: Proposal | None = None
         self._values = [ValueSet(problem.size) for _ in problem.members]
         self._memory: dict[str, dict[tuple[int, ...], int]] = {}
-        self._walk_offset = 0
         self._answers_this_round = 0
 
     # ----------------------------------------------------------------- construction
@@ -121,10 +124,15 @@ class ParallelSearch:
     # ----------------------------------------------------------------- public protocol
 
     @property
+    def walk(self) -> Walk | None:
+        """The walk after a hand-over, else ``None``."""
+        return self.after.walk if self.after is not None else None
+
+    @property
     def round_number(self) -> int:
         """The current round, 1-based (after the hand-over every walk question is a round)."""
-        if self.walk is not None:
-            return len(self.plans) + max(self.walk.counters.asked, 1)
+        if self.after is not None:
+            return len(self.plans) + max(self.after.rounds(), 1)
         return len(self.plans)
 
     def expected_rounds(self) -> int:
@@ -149,15 +157,15 @@ class ParallelSearch:
 
     def open_questions(self) -> list[Question]:
         """The questions waiting for an answer: one per member who still has to answer."""
-        if self.walk is not None:
-            return self.walk.open_questions()
+        if self.after is not None:
+            return self.after.open_questions()
         order = self.problem.members
         return [q for _, q in sorted(self._open.values(), key=lambda o: order.index(o[1].member))]
 
     def answer(self, question_id: str, room_index: int) -> None:
         """Record an answer (any order); bad ids or rooms raise and change nothing."""
-        if self.walk is not None:
-            self.walk.answer(question_id, room_index)
+        if self.after is not None:
+            self.after.answer(question_id, room_index)
             self.log.append(("answer", question_id, room_index))
             return
         found = next((o for o in self._open.values() if o[1].id == question_id), None)
@@ -167,7 +175,7 @@ class ParallelSearch:
                 "or never asked); answer one of the open questions instead"
             )
         round_no, question = found
-        _check_room(room_index, question.choices)
+        check_room(room_index, question.choices)
         self.log.append(("answer", question_id, room_index))
         del self._open[question.member]
         self._answers_this_round += 1
@@ -193,12 +201,12 @@ class ParallelSearch:
 
     def proposal(self) -> Proposal | None:
         """The proposed division once found, else ``None``."""
-        return self.walk.proposal() if self.walk is not None else self._proposal
+        return self.after.confirmed if self.after is not None else self._proposal
 
     def dispute(self, member: str, room_index: int) -> None:
         """``member`` would rather take ``room_index`` at the proposed prices: a fact; go on."""
-        if self.walk is not None:
-            self.walk.dispute(member, room_index)
+        if self.after is not None:
+            self.after.dispute(member, room_index)
             self.log.append(("dispute", member, room_index))
             return
         proposal = self._proposal
@@ -206,7 +214,7 @@ class ParallelSearch:
             raise InvalidState("there is no proposal to object to yet; answer the open questions")
         if member not in proposal.assignment:
             raise InvalidAnswer(f"{member!r} is not a member of this round")
-        _check_room(room_index, tuple(range(self.problem.size)))
+        check_room(room_index, tuple(range(self.problem.size)))
         if room_index == proposal.assignment[member]:
             raise InvalidAnswer(
                 "that is the room already proposed for this member; to object, name the room "
@@ -242,14 +250,11 @@ class ParallelSearch:
 
     def all_records(self) -> list[Record]:
         """Every label: this search's own, then the walk's after a hand-over (renumbered)."""
-        if self.walk is None:
+        if self.after is None:
             return list(self.records)
-        shifted = [
-            replace(r, seq=r.seq + self._walk_offset, stage=r.stage + len(self.plans))
-            for r in self.walk.records
-            if r.source != "earlier"
-        ]
-        return self.records + shifted
+        later = self.after.records()
+        start = len(self.records)
+        return self.records + [replace(r, seq=start + k + 1) for k, r in enumerate(later)]
 
     def check(self) -> None:
         """Invariant checker (cheap; tests call it after every step): see
@@ -365,8 +370,8 @@ class ParallelSearch:
                 earlier.setdefault(r.member, []).append((r.prices, r.room))
         start = self.plans[-1].base if self.plans else None
         self._open = {}
-        self._walk_offset = self.records[-1].seq if self.records else 0
-        self.walk = Walk.start(self.problem, start_prices=start, earlier=earlier)
+        walk = Walk.start(self.problem, start_prices=start, earlier=earlier)
+        self.after = HandedOver(self.problem, walk, len(self.plans))
 
     def _record(
         self,
@@ -398,11 +403,3 @@ class ParallelSearch:
     def replay(cls, text: str) -> ParallelSearch:
         """Recompute a saved search from its inputs and log alone (ignoring stored plans)."""
         return saved.load(cls, text, use_plans=False)
-
-
-def _check_room(room_index: object, choices: tuple[int, ...]) -> None:
-    if not isinstance(room_index, int) or isinstance(room_index, bool):
-        raise InvalidAnswer(f"a room is given by its number, not {room_index!r}")
-    if room_index not in choices:
-        allowed = ", ".join(str(c) for c in choices)
-        raise InvalidAnswer(f"room {room_index} is not one of the offered rooms ({allowed})")

@@ -43,12 +43,10 @@ def centre_plan(
     lp = largest_margin_prices(estimates, problem.rent, problem.floor)
     let = sorted(lp.assignment)
     base = whole_prices(lp.prices, let, problem.rent, problem.floor + 1)
-    pinned = any(
-        vs.width(own, k) < problem.tolerance
-        for vs, own in zip(value_sets, lp.assignment, strict=True)
-        for k in range(problem.size)
-        if k != own
-    )
+    pinned = False
+    for vs, own in zip(value_sets, lp.assignment, strict=True):
+        widths = np.delete(vs.widths()[own], own)
+        pinned = pinned or bool(np.any(widths < problem.tolerance))
     if not pinned and base not in seen_bases:
         return Plan("centre", base, (base,) * len(value_sets), lp.assignment)
     cut = largest_cut(base, let, problem.tolerance, problem.floor)
@@ -64,10 +62,15 @@ def adjust_plan(problem: Problem, last: Plan, picks: Mapping[int, int], steps_ta
     moved = adjusted_prices(
         last.base, {str(i): r for i, r in picks.items()}, members, step, problem.floor
     )
-    if problem.empty_count:  # the dearest rooms are the let ones; they carry the rent
-        let = sorted(sorted(range(problem.size), key=lambda j: (-moved[j], j))[:members])
-        shift = Fraction(problem.rent - sum(moved[j] for j in let), members)
-        moved = whole_prices(
-            [Fraction(p) + shift for p in moved], let, problem.rent, problem.floor + 1
-        )
+    moved = let_rooms_carry_the_rent(problem, moved)
     return Plan("adjust", moved, (moved,) * members, None)
+
+
+def let_rooms_carry_the_rent(problem: Problem, prices: tuple[int, ...]) -> tuple[int, ...]:
+    """With empty rooms: shift all prices so the dearest ``members`` rooms sum to the rent."""
+    if not problem.empty_count:
+        return prices
+    members = len(problem.members)
+    let = sorted(sorted(range(problem.size), key=lambda j: (-prices[j], j))[:members])
+    shift = Fraction(problem.rent - sum(prices[j] for j in let), members)
+    return whole_prices([Fraction(p) + shift for p in prices], let, problem.rent, problem.floor + 1)

@@ -20,7 +20,7 @@ from solver.protocol import Counters, Options, Proposal, Question
 from solver.rounds import ParallelOptions
 from solver.walk import FORMAT_NAME as WALK_FORMAT
 from solver.walk import Walk
-from solver.warm_start import maximin_split
+from solver.warm_start import WARM_FIRST_MESH_PER_ROOM, maximin_split
 
 Method = Literal["parallel", "walk"]
 Earlier = Mapping[str, Sequence[tuple[Sequence[int], int]]]
@@ -47,6 +47,11 @@ class Search(Protocol):
     def check(self) -> None: ...
 
     def to_json(self) -> str: ...
+
+
+def _both_are_searches(walk: Walk, parallel: ParallelSearch) -> tuple[Search, Search]:
+    """Never called: mypy checks here that both methods satisfy :class:`Search`."""
+    return walk, parallel
 
 
 def start(
@@ -77,6 +82,7 @@ def start(
         start_prices = None
         if rough_values is not None and not problem.empty_count:
             start_prices = maximin_split(rough_values, problem.rent, problem.floor).prices
+            options = options or Options(first_mesh_per_room=WARM_FIRST_MESH_PER_ROOM)
         return Walk.start(problem, options=options, start_prices=start_prices, earlier=earlier)
     raise InvalidProblem(f"unknown method {method!r}; use 'parallel' or 'walk'")
 

@@ -22,6 +22,16 @@ def check_parallel(search: ParallelSearch) -> None:
     problem = search.problem
     if search.walk is not None:
         search.walk.check()
+        confirm = search.after.confirm if search.after is not None else None
+        if confirm is not None:
+            if search.walk.proposal() is None:
+                raise BrokenInvariant("a confirmation round without a proposal to confirm")
+            if min(confirm.prices) < problem.floor or (
+                not problem.empty_count and sum(confirm.prices) != problem.rent
+            ):
+                raise BrokenInvariant(f"confirmation prices {confirm.prices} break rent or floor")
+            if any(q.prices != confirm.prices for q in search.open_questions()):
+                raise BrokenInvariant("a confirmation question is not at the round's prices")
     else:
         _check_round(search)
     proposal = search.proposal()
@@ -72,8 +82,18 @@ def _check_certificate(search: ParallelSearch, proposal: Proposal) -> None:
         latest = [r for r in search.records if r.member == e.member and r.prices == e.prices]
         if not latest or latest[-1].room != e.room or proposal.assignment[e.member] != e.room:
             raise BrokenInvariant(f"the evidence of {e.member} is not their latest answer")
-        if proposal.envy_bound == 0 and e.prices != proposal.prices:
-            raise BrokenInvariant("an exact certificate needs answers at exactly these prices")
+    if exact_certificate(proposal) and proposal.envy_bound != 0:
+        raise BrokenInvariant("answers at exactly the proposed prices certify envy 0")
+
+
+def exact_certificate(proposal: Proposal) -> bool:
+    """True when every member chose their room at exactly the proposed prices.
+
+    That is the strongest evidence ("each of you chose this room at exactly these prices"),
+    valid whatever the tastes. Any other proposal's bound assumes that money counts
+    one-for-one near the prices (:mod:`solver.envy`), even when that bound happens to be 0.
+    """
+    return bool(proposal.evidence) and all(e.prices == proposal.prices for e in proposal.evidence)
 
 
 def check_proposal(problem: Problem, proposal: Proposal) -> None:

@@ -1,5 +1,6 @@
 """The parallel search's protocol: rounds, bad input, persistence, hand-over, closing rounds."""
 
+import contextlib
 import json
 import random
 
@@ -264,3 +265,39 @@ def test_boundary_rule_at_the_floor() -> None:
     questions = search.open_questions()
     assert [q.choices for q in questions] == [(0, 1)] * 3
     search.check()
+
+
+@pytest.mark.parametrize("model", ["quasi-linear", "budget-capped", "concave"])
+@pytest.mark.parametrize("seed", range(3))
+def test_invariants_after_every_step_of_mixed_stress_runs(model: str, seed: int) -> None:
+    # answers in random order, rounds closed early at random, objections after proposals,
+    # a save and restore now and then: check() after every single step
+    rng = random.Random(seed)
+    n = rng.choice([3, 4, 5])
+    problem = _problem(n, rng.choice([n, n - 1]), rng.choice([0, -10_000]))
+    tenants = random_tenants(problem, model, seed)  # type: ignore[arg-type]
+    search = ParallelSearch.start(problem, options=ParallelOptions(max_rounds=rng.choice([8, 30])))
+    objections = 2
+    for _ in range(3_000):
+        search.check()
+        proposal = search.proposal()
+        if proposal is not None:
+            if not objections:
+                break
+            objections -= 1
+            member = rng.choice(problem.members)
+            other = (proposal.assignment[member] + 1) % problem.size
+            search.dispute(member, other)
+            continue
+        if rng.random() < 0.05:
+            search = solver.resume(search.to_json())  # type: ignore[assignment]
+            continue
+        questions = search.open_questions()
+        if search.walk is None and len(questions) > 1 and rng.random() < 0.1:
+            with contextlib.suppress(InvalidState):  # nobody answered this round yet
+                search.close_round()
+            continue
+        q = rng.choice(questions)
+        search.answer(q.id, tenants[q.member].choose(q.prices, q.choices, problem.floor))
+    search.check()
+    assert search.proposal() is not None
