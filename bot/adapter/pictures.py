@@ -34,10 +34,10 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 
-from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 from matplotlib.patches import Polygon
 
+from bot.rounds.money_text import shown
 from bot.rounds.searches import AnySearch
 from solver.money import format_minor, split_exactly
 
@@ -122,15 +122,19 @@ def tolerance_band(proposal: Sequence[int], tolerance: int) -> list[tuple[int, .
 def render_png(data: PictureData, currency: str = "", decimals: int = 2) -> bytes:
     """Draw the picture and return PNG bytes (``decimals``: minor units per major unit)."""
     triangle = len(data.rooms) == 3 and not data.empty_rooms
-    fig = _triangle(data) if triangle else _price_bars(data, currency, decimals)
+    fig = _triangle(data, currency) if triangle else _price_bars(data, currency, decimals)
     buffer = io.BytesIO()
     fig.savefig(buffer, format="png", dpi=110, bbox_inches="tight")
     return buffer.getvalue()
 
 
-def _triangle(data: PictureData) -> Figure:
-    fig = Figure(figsize=(6.4, 5.8))
-    ax = fig.subplots()
+def _triangle(data: PictureData, currency: str) -> Figure:
+    fig = Figure(figsize=(7.6, 6.2))
+    ax = fig.add_axes((0.24, 0.1, 0.74, 0.8))
+
+    def cash(minor: int) -> str:
+        return shown(minor, currency) if currency else str(minor)
+
     corners = [(0.0, 0.0), (1.0, 0.0), (0.5, math.sqrt(3) / 2)]
     outline = ax.fill(*zip(*corners, strict=True), color="#f4f1ea", zorder=0)[0]
     ax.plot(*zip(*(corners + corners[:1]), strict=True), color="#5b5b5b", lw=1.2)
@@ -138,7 +142,8 @@ def _triangle(data: PictureData) -> Figure:
     aligns = ["right", "left", "center"]
     for room, ((cx, cy), (dx, dy), align) in enumerate(zip(corners, offsets, aligns, strict=True)):
         ax.scatter([cx], [cy], s=40, color=OKABE_ITO[room], marker=MARKERS[room], zorder=2)
-        label = f"{data.rooms[room]}\ncosts it all"
+        whole, others = cash(data.rent - 2 * data.floor), cash(data.floor)
+        label = f"{data.rooms[room]} {whole}\n(the others {others})"
         ax.text(cx + dx, cy + dy, label, ha=align, va="center", fontsize=9)
     even = [p for p in data.even_split if p is not None]
     ex, ey = triangle_xy(even, data.floor, data.rent)
@@ -156,7 +161,11 @@ def _triangle(data: PictureData) -> Figure:
         ax.annotate("", (px, py), (ex, ey), arrowprops={"arrowstyle": "->", "color": "#5b5b5b"})
         ax.scatter([px], [py], s=110, marker="*", color="#000000", zorder=4, label="proposal")
         ax.plot([], [], color="#56B4E9", lw=6, alpha=0.6, label="within the tolerance")
-        _zoom(ax, data, band, (px, py))
+        _zoom(fig, band, (px, py), cash(data.tolerance))
+        prices = ", ".join(
+            f"{room} {cash(price)}" for room, price in zip(data.rooms, data.proposal, strict=True)
+        )
+        fig.text(0.5, 0.03, f"Proposal: {prices}", ha="center", fontsize=9)
     ax.set_aspect("equal")
     ax.axis("off")
     ax.legend(loc="upper right", fontsize=8, frameon=False)
@@ -165,12 +174,13 @@ def _triangle(data: PictureData) -> Figure:
 
 
 def _zoom(
-    ax: Axes, data: PictureData, band: Sequence[tuple[float, float]], star: tuple[float, float]
+    fig: Figure, band: Sequence[tuple[float, float]], star: tuple[float, float], tolerance: str
 ) -> None:
-    """An inset around the proposal, where the tolerance band is too small to see."""
+    """A close-up of the proposal beside the triangle (never over it), where the tolerance
+    band is too small to see; its caption gives the scale."""
     xs, ys = [p[0] for p in band], [p[1] for p in band]
     margin = max(max(xs) - min(xs), max(ys) - min(ys), 1e-4) * 0.6
-    inset = ax.inset_axes((0.02, 0.55, 0.36, 0.36))
+    inset = fig.add_axes((0.01, 0.5, 0.21, 0.26))
     inset.fill(xs, ys, facecolor="#56B4E9", alpha=0.35, edgecolor="#0072B2")
     inset.scatter([star[0]], [star[1]], s=60, marker="*", color="#000000")
     inset.set_xlim(min(xs) - margin, max(xs) + margin)
@@ -179,6 +189,7 @@ def _zoom(
     inset.set_xticks([])
     inset.set_yticks([])
     inset.set_title("close-up of the split", fontsize=8)
+    inset.set_xlabel(f"blue: every price list\nwithin {tolerance} per room", fontsize=7)
 
 
 def _price_bars(data: PictureData, currency: str, decimals: int) -> Figure:
