@@ -9,6 +9,7 @@ three low-level calls, translating the SQL for asyncpg.
 from __future__ import annotations
 
 import json
+import re
 from collections.abc import Sequence
 from typing import Any
 
@@ -264,12 +265,13 @@ class SqlTransaction(LaterQueries, RetentionQueries):
         return None if row is None else _question(row)
 
     async def questions(self, round_id: int) -> list[QuestionRecord]:
+        """In the order they were asked: by time, then by the numbers in their ids (``q9``
+        before ``q10``, ``r2-3`` before ``r10-1``), sorted here because the two databases
+        disagree on casting text such as ``1-1`` to a number."""
         rows = await self._all(
-            f"SELECT {_QUESTION_COLUMNS} FROM questions WHERE round_id = ? ORDER BY asked_at, "
-            "CAST(substr(qid, 2) AS INTEGER)",
-            (round_id,),
+            f"SELECT {_QUESTION_COLUMNS} FROM questions WHERE round_id = ?", (round_id,)
         )
-        return [_question(row) for row in rows]
+        return sorted(map(_question, rows), key=lambda q: (q.asked_at, _asked_order(q.qid)))
 
     async def record_answer(self, round_id: int, qid: str, room: int, at: int) -> None:
         await self._run(
@@ -338,6 +340,15 @@ def _round(row: Any) -> RoundRecord | None:
         updated_at=row[10],
         forgotten_at=row[11],
     )
+
+
+#: Question ids: ``r<round>-<member>`` (rounds), ``q<seq>`` (the walk), ``c<k>-<member>``
+#: (confirmation rounds after a hand-over to the walk).
+_ID_KINDS = {"r": 0, "q": 1, "c": 2}
+
+
+def _asked_order(qid: str) -> tuple[int, tuple[int, ...]]:
+    return _ID_KINDS.get(qid[:1], 3), tuple(int(n) for n in re.findall(r"\d+", qid))
 
 
 def _question(row: Any) -> QuestionRecord:
