@@ -15,11 +15,10 @@ send returns. What Telegram makes of a failure decides what happens next:
   group, never to the private chat whose message was being delivered;
 * "message is not modified" is a success.
 
-Each chat has its own sender (:mod:`bot.adapter.chat_senders`): a chat's messages go out in order,
-different chats side by side, so a group that must wait (flood control, the per-group minute
-of :mod:`bot.adapter.group_pace`) never holds up anyone else. Asking for a send never waits for it.
-The group's progress message is rewritten through :mod:`bot.adapter.board_edits`: at most one edit
-per group every few seconds, the last one showing the latest state.
+Each chat has its own sender (:mod:`bot.adapter.chat_senders`): its messages go out in order,
+chats side by side, so a group that must wait (flood control, :mod:`bot.adapter.group_pace`)
+holds up no one else. The progress message is rewritten at most every few seconds
+(:mod:`bot.adapter.board_edits`); joins and leaves rewrite the open round's message.
 
 A proposal sent to a group is followed by a picture of the walk (:mod:`bot.adapter.walk_picture`);
 that picture is an extra and its failure never holds up the outbox.
@@ -42,7 +41,7 @@ from telegram.error import BadRequest, ChatMigrated, Forbidden, NetworkError, Re
 from bot.adapter.board_edits import BOARD_EDIT_EVERY, CoalescedEdits
 from bot.adapter.chat_senders import ChatSenders
 from bot.adapter.documents import send_agreement
-from bot.adapter.keyboards import deep_link, join_payload, keyboard
+from bot.adapter.keyboards import deep_link, join_payload, keyboard, rooms_of
 from bot.adapter.private_texts import answered_question, withdrawn_question
 from bot.adapter.texts import board, fit, needs_private_chat, pick_locale, render
 from bot.adapter.walk_picture import send_walk_picture
@@ -225,13 +224,34 @@ class Delivery:
             return await send_agreement(self.bot, message, await self._locale_for(message))
         if message.kind is Kind.ASKING_STARTED and message.ref == REPOST:
             return await self._repost_board(message)
+        if message.kind in (Kind.MEMBER_JOINED, Kind.MEMBER_LEFT):
+            edited = await self._update_join_message(message)
+            if edited is not None:
+                return edited
         locale = await self._locale_for(message)
         need = await self._need_private_chat(message)
         link = self._group_link(message) if need or message.kind is Kind.JOINING_OPEN else None
         text = fit(render(message, locale, need_private_chat=need))
-        markup = keyboard(message, _rooms_of(message), link)
+        markup = keyboard(message, rooms_of(message), link)
         sent = await self.bot.send_message(message.to.chat_id, text, reply_markup=markup)
         return sent.message_id
+
+    async def _update_join_message(self, message: Outgoing) -> int | None:
+        """Someone joined or left: rewrite the open round's message (same join button) rather
+        than post a new one, so the group chat stays quiet. None: send it as a new message."""
+        facts = message.facts
+        if not isinstance(facts, RoundFacts):
+            return None
+        chat_id = message.to.chat_id
+        async with self._transaction() as tx:
+            opened = await tx.last_sent(chat_id, [Kind.JOINING_OPEN.value], round_id=facts.round_id)
+        if opened is None or opened.message_id is None:
+            return None
+        live = replace(message, kind=Kind.JOINING_OPEN, choices=decode(opened.payload).choices)
+        need = await self._need_private_chat(live)
+        text = fit(render(live, self.locale, need_private_chat=need))
+        markup = keyboard(live, rooms_of(live), self._group_link(live))
+        return await self._edit(chat_id, opened.message_id, text, markup)
 
     async def _withdraw_question(self, message: Outgoing, facts: ProgressFacts) -> int | None:
         """Edit a no-longer-needed question in place (buttons gone); never a new message."""
@@ -398,12 +418,3 @@ class Delivery:
 
     def _group_link(self, message: Outgoing) -> str:
         return deep_link(self.bot_username, join_payload(message.to.chat_id))
-
-
-def _rooms_of(message: Outgoing) -> tuple[str, ...]:
-    rooms = getattr(message.facts, "rooms", None)
-    if isinstance(rooms, tuple):
-        return tuple(str(r) for r in rooms)
-    if isinstance(message.facts, DivisionFacts):
-        return tuple(line.room for line in sorted(message.facts.lines, key=lambda x: x.room_index))
-    return ()

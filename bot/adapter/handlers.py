@@ -117,7 +117,7 @@ async def set_up_round(update: Update, context: AnyContext, setup: SetupInput) -
     await run_and_report(
         update,
         context,
-        Configure(update_key(update, "set"), chat.id, actor, setup, fresh=True),
+        Configure(update_key(update, "set"), chat.id, actor, setup, fresh=True, open_now=True),
         OpenJoining(update_key(update, "open"), chat.id, actor),
     )
 

@@ -10,7 +10,7 @@ import re
 from telegram import InlineKeyboardButton, InlineKeyboardMarkup
 
 from bot.rounds.errors import FlatpactError
-from bot.rounds.messages import Action, Choice, Outgoing
+from bot.rounds.messages import Action, Choice, DivisionFacts, Outgoing
 
 #: Telegram Bot API, InlineKeyboardButton.callback_data: 1-64 bytes
 #: (core.telegram.org/bots/api#inlinekeyboardbutton).
@@ -96,3 +96,13 @@ def keyboard(
     if link is not None:
         rows.append([InlineKeyboardButton("Open a private chat with me", url=link)])
     return InlineKeyboardMarkup(rows) if rows else None
+
+
+def rooms_of(message: Outgoing) -> tuple[str, ...]:
+    """The room names a message's buttons may name, in room order."""
+    rooms = getattr(message.facts, "rooms", None)
+    if isinstance(rooms, tuple):
+        return tuple(str(r) for r in rooms)
+    if isinstance(message.facts, DivisionFacts):
+        return tuple(line.room for line in sorted(message.facts.lines, key=lambda x: x.room_index))
+    return ()

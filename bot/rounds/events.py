@@ -38,6 +38,9 @@ class Configure:
     setup: SetupInput
     #: a new round (``/newround``): refused if the group already has one past drafting
     fresh: bool = False
+    #: the same command also opens the round for joining: the group is told once, by the
+    #: open round's message, not first by a draft's (a quieter group chat)
+    open_now: bool = False
 
 
 @dataclass(frozen=True, slots=True)

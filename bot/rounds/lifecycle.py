@@ -89,13 +89,16 @@ async def _create_draft(ctx: Context, event: Configure) -> None:
         previous_round=None,
         at=ctx.now,
     )
-    await _created(ctx, round_id, event.actor, settings.to_json())
+    await _created(ctx, round_id, event.actor, settings.to_json(), quiet=event.open_now)
 
 
-async def _created(ctx: Context, round_id: int, actor: Actor, settings_json: str) -> None:
+async def _created(
+    ctx: Context, round_id: int, actor: Actor, settings_json: str, *, quiet: bool = False
+) -> None:
     await ctx.tx.add_timer(round_id, TimerKind.LAPSE, None, "", ctx.now + ctx.config.lapse_after)
     await ctx.audit(round_id, AuditKind.ROUND_CREATED, actor.user_id, settings=settings_json)
-    await announce(ctx, round_id, Kind.DRAFT_SAVED)
+    if not quiet:
+        await announce(ctx, round_id, Kind.DRAFT_SAVED)
 
 
 async def open_joining(ctx: Context, group_id: int, actor: Actor) -> None:

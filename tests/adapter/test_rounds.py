@@ -85,3 +85,20 @@ async def test_five_flatmates_agree(standin: BotApiStandIn, db_path: Path) -> No
         for room in ROOMS[:5]:
             assert f"took {room}" not in (board.text or "")
     assert all(record.answered for record in standin.world.callbacks.values())
+
+
+async def test_setting_up_and_joining_post_two_group_messages(
+    standin: BotApiStandIn, db_path: Path
+) -> None:
+    # A quiet group chat (common practice for bots in groups): set-up and joins rewrite the
+    # open round's message; only the round's opening and the start of the questions are new.
+    flat = Flat.invent(standin, db_path, size=3, rent=1_500_00, seed=4)
+    async with running(app_for(standin, db_path)):
+        await set_up_and_join(flat, "1500.00 EUR", "10")
+    posted = [m for m in standin.world.messages_in(flat.group) if m.from_bot]
+    assert len(posted) == 2
+    opened, started = posted
+    assert (opened.text or "").startswith("The round is open")
+    assert "Members (3 of 3)" in (opened.text or "")  # rewritten as people joined
+    assert any(b.text == "Count me in" for row in opened.buttons() for b in row)
+    assert (started.text or "").startswith("Everyone is in")
