@@ -87,7 +87,6 @@ class Delivery:
     clock: Clock
     locale: str
     bot_username: str
-    on_flushed: Callable[[], None] | None = None
     #: seconds between two edits of one group's progress message
     board_edit_every: float = BOARD_EDIT_EVERY
     #: called when a chat's sending had to pause (the runtime schedules a retry)

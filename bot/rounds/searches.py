@@ -20,7 +20,6 @@ from solver.protocol import Record
 
 AnySearch = ParallelSearch | Walk
 Method = Literal["parallel", "walk"]
-METHODS: tuple[Method, ...] = ("parallel", "walk")
 
 
 def load(round_id: int, text: str) -> AnySearch:

@@ -137,13 +137,6 @@ class SqlTransaction(LaterQueries, RetentionQueries):
         params.append(round_id)
         await self._run(f"UPDATE rounds SET {', '.join(sets)} WHERE id = ?", params)
 
-    async def settled_rounds(self, group_id: int) -> list[RoundRecord]:
-        rows = await self._all(
-            f"SELECT {_ROUND_COLUMNS} FROM rounds WHERE group_id = ? AND phase = ? ORDER BY id",
-            (group_id, Phase.SETTLED.value),
-        )
-        return [record for row in rows if (record := _round(row)) is not None]
-
     async def unrecorded_settled_rounds(self, group_id: int) -> list[RoundRecord]:
         """Settled rounds with a walk but no stored agreement (agreed before migration 7)."""
         rows = await self._all(
