@@ -7,6 +7,7 @@ language for number formats where Babel knows it; groups use the configured loca
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from decimal import Decimal
 
 from babel import Locale, UnknownLocaleError
@@ -149,9 +150,14 @@ def history(agreements: list[AgreementFacts], locale: str) -> str:
             for line in f.lines
         )
         empty = f" Empty: {', '.join(f.empty_rooms)}." if f.empty_rooms else ""
+        repriced = (
+            f" Rent change from {money(f.previous_rent, f.currency, f.decimals, locale)}."
+            if f.previous_rent is not None
+            else ""
+        )
         blocks.append(
             f"• {agreement_time(f.settled_at)}, total "
-            f"{money(f.rent, f.currency, f.decimals, locale)}: {rooms}.{empty}"
+            f"{money(f.rent, f.currency, f.decimals, locale)}: {rooms}.{empty}{repriced}"
         )
     return "Agreements of this group, newest first:\n" + "\n".join(blocks) + f"\n{SHORT_CAUTION}"
 
@@ -185,18 +191,39 @@ def division(f: DivisionFacts, kind: Kind, locale: str) -> str:
     ]
     total = sum(line.price + line.shared for line in f.lines)
     check = "matches" if total == f.rent else "DOES NOT match"
+    if f.previous_rent is not None:
+        why = repriced_words(f, cash)
+    elif f.exact:
+        why = ["Each of you chose your room at exactly these prices."]
+    else:
+        why = [f"Each of you chose your room at prices within {cash(f.tolerance)} of these."]
     return "\n".join(
         [
             head,
             *lines,
             f"Total {cash(total)}, which {check} the rent of {cash(f.rent)}.",
-            "Each of you chose your room at exactly these prices."
-            if f.exact
-            else f"Each of you chose your room at prices within {cash(f.tolerance)} of these.",
+            *why,
             "",
             CAUTION,
         ]
     )
+
+
+def repriced_words(f: DivisionFacts, cash: Callable[[int], str]) -> list[str]:
+    """A rent change: where the prices come from, and the assumption the split now rests on."""
+    assert f.previous_rent is not None
+    change, rooms = f.rent - f.previous_rent, len(f.lines)
+    low, odd = divmod(change, rooms)
+    each = cash(low) if not odd else f"{cash(low)} or {cash(low + 1)} (the first rooms listed)"
+    return [
+        f"The rent changed from {cash(f.previous_rent)} to {cash(f.rent)}. These are the "
+        f"prices you agreed to, with the difference spread equally over the {rooms} rooms: "
+        f"{each} each. Shared costs stay as they were.",
+        "This assumes that money counts one-for-one for each of you: the same change on every "
+        "room leaves your preference between rooms as it was, so nobody would rather swap now "
+        "who would not before. If the new price changes that for you (a budget, say), tap "
+        '"I\'d rather swap" and I will ask everyone questions again.',
+    ]
 
 
 def round_text(
@@ -333,6 +360,7 @@ COMMANDS: tuple[tuple[str, str], ...] = (
     ("again", "Run the last agreed round again with the same people and settings"),
     ("changeover", "Someone moved out or in: new round, same rooms and rent, all join again"),
     ("agreements", "List this group's past agreements"),
+    ("newrent", "The rent changed: re-price the last agreement, everyone confirms (admin)"),
     ("help", "What I do and how it works"),
 )
 
@@ -364,7 +392,10 @@ def help_text(topic: str = "") -> str:
             "any of these, each after a semicolon:\n"
             f"{options}\n"
             "Example: /newround 1850.00 EUR; Loft, Attic, Bay room; tolerance 5\n"
-            "Before /begin, /adjust changes any of them, e.g. /adjust shared 300."
+            "Before /begin, /adjust changes any of them, e.g. /adjust shared 300.\n"
+            "Later, when the total rent changes: /newrent 1900.00 re-prices the last agreement "
+            "(same people and rooms; the change spread equally over the rooms) and everyone "
+            "confirms it again. If someone moved out or in, use /changeover instead."
         )
     return (
         "I help flatmates agree who takes which room and how the rent is split, so that "
