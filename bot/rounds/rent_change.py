@@ -132,7 +132,7 @@ def _repriced(
         spread = spread_change(prices, let, settings.room_rent(len(let)), settings.floor)
     except BelowFloor as low:
         raise InvalidSetup(
-            f"at {shown(settings.rent, settings.currency, locale)} the {agreement.rooms[low.room]}"
+            f"at {shown(settings.rent, settings.currency, locale)}, {agreement.rooms[low.room]}"
             f" would cost {shown(low.price, settings.currency, locale)}, below the lowest price "
             f"per room of {shown(low.lowest, settings.currency, locale)}; start a fresh round "
             "instead with /again, then /adjust rent with the new total"
