@@ -44,8 +44,12 @@ class RepricedSearch:
     def __init__(self, problem: Problem, proposal: RepricedProposal) -> None:
         self.problem = problem
         self._proposal = proposal
-        #: it holds no answers of its own (the protocol's record list is empty)
-        self.records: list[Record] = []
+        #: The answers it rests on: each member's supporting answer from the agreement it
+        #: re-prices (a re-run after this round can reuse them, as from any agreed round).
+        self.records: list[Record] = [
+            Record(k + 1, 0, e.member, e.prices, e.room, "earlier", None)
+            for k, e in enumerate(proposal.evidence)
+        ]
         self.check()
 
     def open_questions(self) -> list[Question]:

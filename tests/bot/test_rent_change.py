@@ -23,11 +23,13 @@ from bot.rounds.events import (
     Join,
     OpenJoining,
     Press,
+    Rerun,
     Tick,
 )
 from bot.rounds.invariants import check_dump
-from bot.rounds.messages import Action, AgreementFacts, DivisionFacts, Kind, Outgoing
+from bot.rounds.messages import Action, AgreementFacts, DivisionFacts, Kind, Outgoing, RoundFacts
 from bot.rounds.phases import Phase
+from bot.rounds.searches import records_of
 from bot.rounds.setup_input import SetupInput, parse_rent
 from bot.rounds.simulated_rounds import Rehearsal
 from bot.storage.sqlite import SqliteStore
@@ -246,3 +248,23 @@ async def test_an_empty_room_stays_empty_and_moves_with_the_others(
     check_dump(await store.dump())
     settled = await play.play(changed)
     assert settled.empty_rooms == agreed.empty_rooms
+
+
+async def test_a_re_run_after_a_rent_change_reuses_the_answers_it_rests_on(
+    engine: Engine, store: SqliteStore
+) -> None:
+    play, agreed, _ = await settled_round(engine)
+    await play.play(await play.send(change("rent-1", play.admin, "1900")))
+    out = await play.send(Rerun(play.key(), GROUP, play.admin, keep_members=True))
+    assert len([m for m in out if m.kind is Kind.EARLIER_OFFER]) == 3
+    await play.send(OpenJoining(play.key(), GROUP, play.admin))
+    started = only(await play.send(BeginAsking(play.key(), GROUP, play.admin)), Kind.ASKING_STARTED)
+    assert isinstance(started.facts, RoundFacts)
+    assert sorted(started.facts.reused) == sorted(m.display_name for m in play.members)
+    latest = max(row[0] for row in (await store.dump())["rounds"])
+    found = await engine.search_of(latest)
+    assert found is not None
+    earlier = {(r.member, r.room) for r in records_of(found[0]) if r.source == "earlier"}
+    # each member's supporting answer from the first agreement, carried through the re-pricing
+    assert earlier == {(str(line.user_id), line.room_index) for line in agreed.lines}
+    check_dump(await store.dump())
