@@ -7,7 +7,6 @@ language for number formats where Babel knows it; groups use the configured loca
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from decimal import Decimal
 
 from babel import Locale, UnknownLocaleError
@@ -21,6 +20,7 @@ from bot.adapter.private_texts import (
     question,
     rough,
 )
+from bot.adapter.repriced_texts import repriced_words
 from bot.rounds.agreement_document import Document, html_document, markdown
 from bot.rounds.agreement_document import when as agreement_time
 from bot.rounds.caution import CAUTION, SHORT_CAUTION
@@ -207,23 +207,6 @@ def division(f: DivisionFacts, kind: Kind, locale: str) -> str:
             CAUTION,
         ]
     )
-
-
-def repriced_words(f: DivisionFacts, cash: Callable[[int], str]) -> list[str]:
-    """A rent change: where the prices come from, and the assumption the split now rests on."""
-    assert f.previous_rent is not None
-    change, rooms = f.rent - f.previous_rent, len(f.lines)
-    low, odd = divmod(change, rooms)
-    each = cash(low) if not odd else f"{cash(low)} or {cash(low + 1)} (the first rooms listed)"
-    return [
-        f"The rent changed from {cash(f.previous_rent)} to {cash(f.rent)}. These are the "
-        f"prices you agreed to, with the difference spread equally over the {rooms} rooms: "
-        f"{each} each. Shared costs stay as they were.",
-        "This assumes that money counts one-for-one for each of you: the same change on every "
-        "room leaves your preference between rooms as it was, so nobody would rather swap now "
-        "who would not before. If the new price changes that for you (a budget, say), tap "
-        '"I\'d rather swap" and I will ask everyone questions again.',
-    ]
 
 
 def round_text(

@@ -9,6 +9,7 @@ maximising assignment (Alkan, Demange & Gale, Econometrica 59, 1991; Svensson 19
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 from fractions import Fraction
 
 import numpy as np
@@ -162,7 +163,10 @@ def test_the_group_is_told_the_assumption_and_the_caution() -> None:
     facts = DivisionFacts(9, 1, 1_900_00, "EUR", 2, lines, 100, 1, 0, 3, previous_rent=1_850_00)
     text = division(facts, Kind.PROPOSAL, "en")
     assert "from €1,850.00 to €1,900.00" in text
-    assert "€16.66 or €16.67 (the first rooms listed) each" in text
+    assert "each costs €16.67 (the first rooms listed) or €16.66 more" in text
     assert "money counts one-for-one" in text
     assert "Each of you chose your room" not in text  # they chose at the earlier prices
     assert CAUTION in text
+    lower = division(replace(facts, rent=1_800_00), Kind.PROPOSAL, "en")
+    # -50.00 over three: the first room -16.66, the others -16.67 (split_exactly's rule)
+    assert "each costs €16.66 (the first rooms listed) or €16.67 less" in lower
