@@ -268,3 +268,18 @@ async def test_a_re_run_after_a_rent_change_reuses_the_answers_it_rests_on(
     # each member's supporting answer from the first agreement, carried through the re-pricing
     assert earlier == {(str(line.user_id), line.room_index) for line in agreed.lines}
     check_dump(await store.dump())
+
+
+async def test_works_months_later_when_the_answers_are_deleted(
+    engine: Engine, store: SqliteStore, clock: ManualClock
+) -> None:
+    play, agreed, _ = await settled_round(engine)
+    clock.advance(200 * 24 * 3600)  # past keeping answers (60 days) and the log (30 days)
+    forgotten = await engine.forget(clock())
+    assert len(forgotten) == 1
+    out = await play.send(change("rent-later", play.admin, "1900"))
+    facts = only(out, Kind.PROPOSAL).facts
+    assert isinstance(facts, DivisionFacts) and sum(x.price for x in facts.lines) == NEW_RENT
+    settled = await play.play(out)
+    assert [x.room_index for x in settled.lines] == [x.room_index for x in agreed.lines]
+    check_dump(await store.dump())
