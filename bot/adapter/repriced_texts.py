@@ -25,8 +25,9 @@ def repriced_words(f: DivisionFacts, cash: Callable[[int], str]) -> list[str]:
     )
     return [
         f"The rent changed from {cash(f.previous_rent)} to {cash(f.rent)}. These are the "
-        f"prices you agreed to, with the difference spread equally over the {rooms} rooms: "
-        f"each costs {each}. Shared costs stay as they were.",
+        f"prices you agreed to before, with the difference spread equally over the {rooms} "
+        f"rooms: each costs {each}."
+        + (" Shared costs stay as they were." if f.shared_total else ""),
         "This assumes that money counts one-for-one for each of you: the same change on every "
         "room leaves your preference between rooms as it was, so nobody would rather swap now "
         "who would not before. If the new price changes that for you (a budget, say), tap "
