@@ -93,6 +93,7 @@ def _add_handlers(app: AnyApp) -> None:
     app.add_handler(command("adjust", handlers.adjust))
     app.add_handler(command("changeover", handlers.changeover))
     app.add_handler(command("agreements", handlers.agreements))
+    app.add_handler(command("newrent", handlers.new_rent))
     app.add_handler(CallbackQueryHandler(handlers.press, pattern=f"^{CALLBACK_PREFIX}"))
     app.add_handler(CallbackQueryHandler(handlers.unknown_button))
     app.add_handler(MessageHandler(filters.StatusUpdate.MIGRATE, handlers.group_migrated))

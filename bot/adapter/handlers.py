@@ -21,6 +21,7 @@ from bot.rounds.events import (
     Actor,
     BeginAsking,
     Cancel,
+    ChangeRent,
     Configure,
     Event,
     Leave,
@@ -39,6 +40,7 @@ from bot.rounds.setup_input import (
     SetupInput,
     parse_adjust_line,
     parse_amount_list,
+    parse_rent,
     parse_setup_line,
 )
 
@@ -202,6 +204,28 @@ async def run_again(update: Update, context: AnyContext) -> None:
 async def changeover(update: Update, context: AnyContext) -> None:
     """Someone moved out or in: same rooms and rent, and whoever lives there now joins."""
     await _rerun(update, context, keep_members=False)
+
+
+async def new_rent(update: Update, context: AnyContext) -> None:
+    """``/newrent 1900.00``: the total changed; the last agreement is re-priced and confirmed."""
+    found = await _group_only(update)
+    if found is None:
+        return
+    message, chat, user = found
+    locale = runtime_of(context).settings.locale
+    typed = _arguments(message).strip()
+    if not typed:
+        await _reply(update, "Not done: give the new monthly total, e.g. /newrent 1900.00.")
+        return
+    try:
+        rent = parse_rent(typed, locale)
+    except InvalidSetup as bad:
+        await _reply(update, f"Not done: {bad}.")
+        return
+    actor = actor_of(user, is_chat_admin=await is_chat_admin(context, chat, user))
+    await run_and_report(
+        update, context, ChangeRent(update_key(update), chat.id, actor, rent, locale)
+    )
 
 
 async def agreements(update: Update, context: AnyContext) -> None:

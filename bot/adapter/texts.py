@@ -20,6 +20,7 @@ from bot.adapter.private_texts import (
     question,
     rough,
 )
+from bot.adapter.repriced_texts import repriced_words
 from bot.rounds.agreement_document import Document, html_document, markdown
 from bot.rounds.agreement_document import when as agreement_time
 from bot.rounds.caution import CAUTION, SHORT_CAUTION
@@ -149,9 +150,14 @@ def history(agreements: list[AgreementFacts], locale: str) -> str:
             for line in f.lines
         )
         empty = f" Empty: {', '.join(f.empty_rooms)}." if f.empty_rooms else ""
+        repriced = (
+            f" Rent change from {money(f.previous_rent, f.currency, f.decimals, locale)}."
+            if f.previous_rent is not None
+            else ""
+        )
         blocks.append(
             f"• {agreement_time(f.settled_at)}, total "
-            f"{money(f.rent, f.currency, f.decimals, locale)}: {rooms}.{empty}"
+            f"{money(f.rent, f.currency, f.decimals, locale)}: {rooms}.{empty}{repriced}"
         )
     return "Agreements of this group, newest first:\n" + "\n".join(blocks) + f"\n{SHORT_CAUTION}"
 
@@ -185,14 +191,18 @@ def division(f: DivisionFacts, kind: Kind, locale: str) -> str:
     ]
     total = sum(line.price + line.shared for line in f.lines)
     check = "matches" if total == f.rent else "DOES NOT match"
+    if f.previous_rent is not None:
+        why = repriced_words(f, cash)
+    elif f.exact:
+        why = ["Each of you chose your room at exactly these prices."]
+    else:
+        why = [f"Each of you chose your room at prices within {cash(f.tolerance)} of these."]
     return "\n".join(
         [
             head,
             *lines,
             f"Total {cash(total)}, which {check} the rent of {cash(f.rent)}.",
-            "Each of you chose your room at exactly these prices."
-            if f.exact
-            else f"Each of you chose your room at prices within {cash(f.tolerance)} of these.",
+            *why,
             "",
             CAUTION,
         ]
@@ -333,6 +343,7 @@ COMMANDS: tuple[tuple[str, str], ...] = (
     ("again", "Run the last agreed round again with the same people and settings"),
     ("changeover", "Someone moved out or in: new round, same rooms and rent, all join again"),
     ("agreements", "List this group's past agreements"),
+    ("newrent", "The rent changed: re-price the last agreement, everyone confirms (admin)"),
     ("help", "What I do and how it works"),
 )
 
@@ -364,7 +375,10 @@ def help_text(topic: str = "") -> str:
             "any of these, each after a semicolon:\n"
             f"{options}\n"
             "Example: /newround 1850.00 EUR; Loft, Attic, Bay room; tolerance 5\n"
-            "Before /begin, /adjust changes any of them, e.g. /adjust shared 300."
+            "Before /begin, /adjust changes any of them, e.g. /adjust shared 300.\n"
+            "Later, when the total rent changes: /newrent 1900.00 re-prices the last agreement "
+            "(same people and rooms; the change spread equally over the rooms) and everyone "
+            "confirms it again. If someone moved out or in, use /changeover instead."
         )
     return (
         "I help flatmates agree who takes which room and how the rent is split, so that "

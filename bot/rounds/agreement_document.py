@@ -104,6 +104,13 @@ def _content(f: AgreementFacts) -> _Content:
     ]
     if f.common:
         flat.append(f"Not let (common space or storage): {', '.join(f.common)}")
+    if f.previous_rent is not None and f.previous_settled_at is not None:
+        flat.append(
+            f"Rent change: the agreement of {when(f.previous_settled_at)} (total "
+            f"{amount(f.previous_rent, f)}) re-priced, the difference spread equally over the "
+            "let rooms. This keeps it free of envy only if money counts one-for-one for each "
+            "member; each member agreed to it again"
+        )
     rows: list[tuple[str, ...]] = [
         (
             line.member,

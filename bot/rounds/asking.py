@@ -145,10 +145,12 @@ async def question_message(
     )
 
 
-async def propose(ctx: Context, record: RoundRecord, proposal: Proposal) -> None:
-    """Announce a division to the group and open acceptance."""
+async def propose(
+    ctx: Context, record: RoundRecord, proposal: Proposal, step: Step = Step.WALK_PROPOSED
+) -> None:
+    """Announce a division to the group and open acceptance (``step``: how it came about)."""
     number = record.proposal_no + 1
-    phase = transition(record.phase, Step.WALK_PROPOSED)
+    phase = transition(record.phase, step)
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase, proposal_no=number)
     await ctx.tx.clear_accepted(record.id)
     await ctx.audit(

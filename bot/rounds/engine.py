@@ -25,6 +25,7 @@ from bot.rounds import (
     deadlines,
     group_moves,
     lifecycle,
+    rent_change,
     retention,
     rough_values,
 )
@@ -35,6 +36,7 @@ from bot.rounds.events import (
     Actor,
     BeginAsking,
     Cancel,
+    ChangeRent,
     Configure,
     Event,
     Join,
@@ -196,6 +198,8 @@ async def _dispatch(ctx: Context, event: Event) -> None:
         await _show_my_answers(ctx, event.group_id, event.actor)
     elif isinstance(event, MoveGroup):
         await group_moves.move_group(ctx, event)
+    elif isinstance(event, ChangeRent):
+        await rent_change.change_rent(ctx, event)
     else:
         await deadlines.fire_due(ctx)
 
@@ -233,6 +237,9 @@ async def _press(ctx: Context, event: Press) -> None:
     elif token.action in (Action.KEEP_EARLIER, Action.ANSWER_AFRESH):
         keep = token.action is Action.KEEP_EARLIER
         await answer_reuse.choose(ctx, record, event.actor, token.ref, keep)
+    elif token.action is Action.PREFER and rent_change.is_repriced(ctx, record):
+        assert token.room is not None
+        await rent_change.object_with_room(ctx, record, event.actor, token.ref, token.room)
     else:
         assert token.room is not None
         await asking.object_with_room(ctx, record, event.actor, token.ref, token.room)

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from bot.rounds.setup_input import SetupInput, TypedAmount
+from bot.rounds.setup_input import RentInput, SetupInput, TypedAmount
 
 
 @dataclass(frozen=True, slots=True)
@@ -158,6 +158,22 @@ class Tick:
     now: int
 
 
+@dataclass(frozen=True, slots=True)
+class ChangeRent:
+    """The total rent changed: re-price the group's last agreement (same members and rooms).
+
+    ``rent`` was parsed where it arrived, in the group's amount format; the engine checks it
+    against the agreement's currency. See :mod:`bot.rounds.rent_change`.
+    """
+
+    key: str
+    group_id: int
+    actor: Actor
+    rent: RentInput
+    #: the group's locale: how the amount was read, and how refusals show amounts
+    locale: str = "en"
+
+
 Event = (
     Configure
     | OpenJoining
@@ -172,4 +188,5 @@ Event = (
     | ShowMyAnswers
     | MoveGroup
     | Tick
+    | ChangeRent
 )

@@ -19,6 +19,7 @@ from bot.rounds.messages import (
     RoundFacts,
 )
 from bot.rounds.records import MemberRecord, RoundRecord
+from bot.rounds.repriced_search import RepricedProposal
 from solver import Proposal, Question
 
 
@@ -112,6 +113,7 @@ def division_facts(
         empty_rooms=tuple(s.rooms[r] for r in proposal.empty_rooms),
         empty_prices=tuple(proposal.prices[r] for r in proposal.empty_rooms),
         exact=all(e.prices == proposal.prices for e in proposal.evidence),
+        previous_rent=proposal.previous_rent if isinstance(proposal, RepricedProposal) else None,
     )
 
 
@@ -154,7 +156,18 @@ def agreement_facts(
         per_person=s.per_person,
         tolerance=s.tolerance,
         envy_bound=proposal.envy_bound,
+        **_repriced_from(proposal),
     )
+
+
+def _repriced_from(proposal: Proposal) -> dict[str, int]:
+    """A re-priced agreement names the agreement it re-prices (its total and date)."""
+    if not isinstance(proposal, RepricedProposal):
+        return {}
+    return {
+        "previous_rent": proposal.previous_rent,
+        "previous_settled_at": proposal.previous_settled_at,
+    }
 
 
 def question_ref(round_id: int, qid: str) -> str:

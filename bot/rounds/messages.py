@@ -171,6 +171,9 @@ class DivisionFacts:
     empty_prices: tuple[int, ...] = ()
     #: Every member chose their room at exactly these prices (the strongest evidence).
     exact: bool = False
+    #: A rent change: the earlier agreement's total, whose split these prices re-price by
+    #: spreading the change equally over the let rooms (None for a split found by questions).
+    previous_rent: int | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -264,6 +267,9 @@ class AgreementFacts:
     per_person: int
     tolerance: int
     envy_bound: int
+    #: A rent change: the re-priced agreement's total and when it was agreed (else None).
+    previous_rent: int | None = None
+    previous_settled_at: int | None = None
 
 
 @dataclass(frozen=True, slots=True)

@@ -18,6 +18,10 @@
     [settled] --re-run--> a *new* round in [drafting] (same rent and rooms, editable;
                           members kept or replaced). The settled round itself never changes.
 
+    [settled] --rent change--> a *new* round, created in [drafting] and moved at once by
+                          rent-changed to [proposed]: same members and rooms, the agreed split
+                          re-priced for the new total (bot/rounds/rent_change.py).
+
 Drafting, gathering, asking and proposed are *open*: a group has at most one open round.
 Settled, cancelled and lapsed are final.
 
@@ -79,6 +83,7 @@ class Step(Enum):
     ALL_ACCEPTED = "all-accepted"
     CANCEL = "cancel"
     DEADLINE_PASSED = "deadline-passed"
+    RENT_CHANGED = "rent-changed"
 
 
 OPEN_PHASES = frozenset({Phase.DRAFTING, Phase.GATHERING, Phase.ASKING, Phase.PROPOSED})
@@ -93,6 +98,7 @@ _EDGES: dict[tuple[Phase, Step], Phase] = {
     (Phase.ASKING, Step.WALK_PROPOSED): Phase.PROPOSED,
     (Phase.PROPOSED, Step.OBJECTION_UPHELD): Phase.ASKING,
     (Phase.PROPOSED, Step.ALL_ACCEPTED): Phase.SETTLED,
+    (Phase.DRAFTING, Step.RENT_CHANGED): Phase.PROPOSED,
 }
 for _open in OPEN_PHASES:
     _EDGES[(_open, Step.CANCEL)] = Phase.CANCELLED

@@ -14,18 +14,20 @@ from __future__ import annotations
 from typing import Literal
 
 from bot.rounds.errors import StorageFault
+from bot.rounds.repriced_search import RepricedSearch, is_repriced
 from solver import InvalidState, ParallelSearch, Walk, resume
 from solver.parallel import TYPICAL, TYPICAL_ROUGH
 from solver.protocol import Record
 
-AnySearch = ParallelSearch | Walk
+#: ``RepricedSearch``: a round that starts at a re-priced agreement (a rent change)
+AnySearch = ParallelSearch | Walk | RepricedSearch
 Method = Literal["parallel", "walk"]
 
 
 def load(round_id: int, text: str) -> AnySearch:
     """A stored search, continued exactly; a damaged one is a storage fault, not a refusal."""
     try:
-        return resume(text)
+        return RepricedSearch.from_json(text) if is_repriced(text) else resume(text)
     except InvalidState as exc:
         raise StorageFault(f"round {round_id}: {exc}") from exc
 

@@ -17,6 +17,8 @@ EXPECTED = {
     (Phase.ASKING, Step.WALK_PROPOSED): Phase.PROPOSED,
     (Phase.PROPOSED, Step.OBJECTION_UPHELD): Phase.ASKING,
     (Phase.PROPOSED, Step.ALL_ACCEPTED): Phase.SETTLED,
+    # [settled] --rent change--> a new round: drafting, then at once proposed (re-priced split)
+    (Phase.DRAFTING, Step.RENT_CHANGED): Phase.PROPOSED,
     **{(p, Step.CANCEL): Phase.CANCELLED for p in OPEN},
     **{(p, Step.DEADLINE_PASSED): Phase.LAPSED for p in OPEN},
 }
