@@ -36,7 +36,7 @@ async def test_shared_costs_round_then_history(standin: BotApiStandIn, db_path: 
         await flat.wait_group("Everyone is in")
         settled = await flat.play_until_settled()
         assert settled is not None
-        text = settled.text or ""
+        text = settled.text or settled.caption or ""
         # 300.00 over three: 100.00 each, shown beside each room price (Babel's formatting).
         assert text.count(f"+ {euros(100_00)} shared") == 3
         assert f"which matches the rent of {euros(1_800_00)}" in text
