@@ -117,8 +117,10 @@ def test_main_prints_summary_and_how_it_works(tmp_path: Path) -> None:
     text = " ".join(printed.getvalue().split())  # the console wraps long lines
     assert code == 0
     assert "not legal or financial advice" in text
-    # The caution comes with the split, not before any split exists.
-    assert text.index("not legal or financial advice") > text.index("Suggested split")
+    # The caution comes with the split (its picture goes just before it), not before any
+    # split exists.
+    first_split = min(text.index("(picture walk.png"), text.index("Suggested split"))
+    assert text.index("not legal or financial advice") > first_split
     assert "two assumptions" in text
     assert str(tmp_path / "walk.png") in text
     assert (tmp_path / "walk.png").is_file()
