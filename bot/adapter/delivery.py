@@ -215,7 +215,9 @@ class Delivery:
             raise SendLater(f"network: {trouble}") from trouble
         await self._set_state(row, OutboxState.SENT, sent_id)
         if message.kind is Kind.PROPOSAL and isinstance(message.facts, DivisionFacts):
-            await self.refresh_board(message.facts.round_id)  # now waiting for agreement
+            facts = message.facts  # sent: never retried, so its picture need not be remembered
+            self._pictured.discard((message.to.chat_id, facts.round_id, facts.proposal_no))
+            await self.refresh_board(facts.round_id)  # now waiting for agreement
 
     async def _picture_first(self, message: Outgoing) -> None:
         """A new proposal to a group: its picture goes out just before it (once; it never
