@@ -17,11 +17,16 @@ send returns. What Telegram makes of a failure decides what happens next:
 
 Each chat has its own sender (:mod:`bot.adapter.chat_senders`): its messages go out in order,
 chats side by side, so a group that must wait (flood control, :mod:`bot.adapter.group_pace`)
-holds up no one else. The progress message is rewritten at most every few seconds
-(:mod:`bot.adapter.board_edits`); joins and leaves rewrite the open round's message.
+holds up no one else.
 
-A proposal sent to a group is followed by a picture of the walk (:mod:`bot.adapter.walk_picture`);
-that picture is an extra and its failure never holds up the outbox.
+A quiet group chat: a plain round posts only its status message (rewritten from opening to
+the end, :mod:`bot.adapter.live_status`; progress at most every few seconds,
+:mod:`bot.adapter.board_edits`), the picture and the suggested split (rewritten as people
+agree), and the written agreement, whose first file carries the outcome.
+
+The picture of the walk (:mod:`bot.adapter.walk_picture`) goes out just before the proposal,
+so nobody can agree before it is there; it is an extra and its failure never holds up the
+proposal.
 
 A send that reached Telegram but whose answer was lost (a timeout) is sent again later: a
 rare duplicate is preferred to a lost question.
@@ -35,21 +40,24 @@ from collections.abc import AsyncIterator, Callable, Iterable
 from contextlib import asynccontextmanager
 from dataclasses import dataclass, replace
 
-from telegram import Bot, InlineKeyboardMarkup, Message
+from telegram import Bot
 from telegram.error import BadRequest, ChatMigrated, Forbidden, NetworkError, RetryAfter
 
 from bot.adapter.board_edits import BOARD_EDIT_EVERY, CoalescedEdits
 from bot.adapter.chat_senders import ChatSenders
 from bot.adapter.documents import send_agreement
 from bot.adapter.keyboards import deep_link, join_payload, keyboard, rooms_of
+from bot.adapter.live_status import LiveStatus
+from bot.adapter.message_edits import NOT_MODIFIED, edit_text
 from bot.adapter.private_texts import answered_question, withdrawn_question
-from bot.adapter.texts import board, fit, needs_private_chat, pick_locale, render
+from bot.adapter.texts import fit, needs_private_chat, pick_locale, render
 from bot.adapter.walk_picture import send_walk_picture
 from bot.rounds.clock import Clock
 from bot.rounds.engine import Engine
 from bot.rounds.events import MoveGroup
 from bot.rounds.group_moves import REPOST
 from bot.rounds.messages import (
+    AgreementFacts,
     DivisionFacts,
     Kind,
     Outgoing,
@@ -62,7 +70,6 @@ from bot.rounds.records import OutboxRecord, OutboxState
 from bot.rounds.store_port import Store, Transaction
 
 log = logging.getLogger(__name__)
-NOT_MODIFIED = "message is not modified"
 
 
 #: A message claimed for sending this long ago was lost with its process: send it again.
@@ -96,9 +103,21 @@ class Delivery:
         self._lock = asyncio.Lock()
         self._noticed: set[tuple[int, int]] = set()
         self._senders = ChatSenders(self._send_chat)
-        self._boards = CoalescedEdits(self._rewrite_board, self.board_edit_every)
         self._moved: dict[int, int] = {}
         self._turn = asyncio.Semaphore(DELIVERY_TRANSACTIONS_AT_ONCE)
+        self._status = LiveStatus(
+            self.bot,
+            self.engine,
+            self.locale,
+            self._transaction,
+            self._turn,
+            self._need_private_chat,
+            self._group_link,
+            self._migrate,
+        )
+        self._boards = CoalescedEdits(self._status.rewrite, self.board_edit_every)
+        #: proposals (chat, round, number) whose picture went out (not again on a retry)
+        self._pictured: set[tuple[int, int, int]] = set()
 
     @asynccontextmanager
     async def _transaction(self) -> AsyncIterator[Transaction]:
@@ -170,6 +189,7 @@ class Delivery:
     async def _deliver(self, row: OutboxRecord) -> None:
         message = decode(row.payload)
         message = replace(message, to=replace(message.to, chat_id=row.chat_id))
+        await self._picture_first(message)
         try:
             sent_id = await self._send(row, message)
         except ChatMigrated as moved:
@@ -194,15 +214,25 @@ class Delivery:
         except NetworkError as trouble:
             raise SendLater(f"network: {trouble}") from trouble
         await self._set_state(row, OutboxState.SENT, sent_id)
+        if message.kind is Kind.PROPOSAL and isinstance(message.facts, DivisionFacts):
+            facts = message.facts  # sent: never retried, so its picture need not be remembered
+            self._pictured.discard((message.to.chat_id, facts.round_id, facts.proposal_no))
+            await self.refresh_board(facts.round_id)  # now waiting for agreement
+
+    async def _picture_first(self, message: Outgoing) -> None:
+        """A new proposal to a group: its picture goes out just before it (once; it never
+        raises, and a failure leaves the proposal to go out alone)."""
         facts = message.facts
         if (
-            message.kind is Kind.PROPOSAL
-            and isinstance(facts, DivisionFacts)
-            and not message.to.private
-            and sent_id is not None
-            and message.ref != REPOST  # the picture was shown with the first post
+            message.kind is not Kind.PROPOSAL
+            or not isinstance(facts, DivisionFacts)
+            or message.to.private
+            or message.ref == REPOST  # the picture was shown with the first post
         ):
-            # An extra after the proposal is safely sent; it never raises.
+            return
+        key = (message.to.chat_id, facts.round_id, facts.proposal_no)
+        if key not in self._pictured:
+            self._pictured.add(key)
             await send_walk_picture(self.bot, self.engine, message.to.chat_id, facts.round_id)
 
     async def _set_state(self, row: OutboxRecord, state: str, message_id: int | None) -> None:
@@ -216,17 +246,21 @@ class Delivery:
         if isinstance(message.facts, ProgressFacts) and message.facts.question_ref:
             return await self._acknowledge_answer(message, message.facts)
         if message.kind in (Kind.ACCEPTED, Kind.SETTLED):
+            # Both only rewrite the proposal; the outcome comes with the written agreement.
             await self._update_proposal(message)
-            if message.kind is Kind.ACCEPTED:
-                return None
+            return None
         if message.kind is Kind.AGREEMENT:
-            return await send_agreement(self.bot, message, await self._locale_for(message))
+            outcome = await self._outcome(message)
+            return await send_agreement(self.bot, message, self.locale, outcome)
         if message.kind is Kind.ASKING_STARTED and message.ref == REPOST:
-            return await self._repost_board(message)
+            return await self._status.repost(message)
+        edited: int | None = None
         if message.kind in (Kind.MEMBER_JOINED, Kind.MEMBER_LEFT):
-            edited = await self._update_join_message(message)
-            if edited is not None:
-                return edited
+            edited = await self._status.joined_or_left(message)
+        elif message.kind is Kind.ASKING_STARTED:
+            edited = await self._status.asking_started(message)
+        if edited is not None:
+            return edited
         locale = await self._locale_for(message)
         need = await self._need_private_chat(message)
         link = self._group_link(message) if need or message.kind is Kind.JOINING_OPEN else None
@@ -234,23 +268,6 @@ class Delivery:
         markup = keyboard(message, rooms_of(message), link)
         sent = await self.bot.send_message(message.to.chat_id, text, reply_markup=markup)
         return sent.message_id
-
-    async def _update_join_message(self, message: Outgoing) -> int | None:
-        """Someone joined or left: rewrite the open round's message (same join button) rather
-        than post a new one, so the group chat stays quiet. None: send it as a new message."""
-        facts = message.facts
-        if not isinstance(facts, RoundFacts):
-            return None
-        chat_id = message.to.chat_id
-        async with self._transaction() as tx:
-            opened = await tx.last_sent(chat_id, [Kind.JOINING_OPEN.value], round_id=facts.round_id)
-        if opened is None or opened.message_id is None:
-            return None
-        live = replace(message, kind=Kind.JOINING_OPEN, choices=decode(opened.payload).choices)
-        need = await self._need_private_chat(live)
-        text = fit(render(live, self.locale, need_private_chat=need))
-        markup = keyboard(live, rooms_of(live), self._group_link(live))
-        return await self._edit(chat_id, opened.message_id, text, markup)
 
     async def _withdraw_question(self, message: Outgoing, facts: ProgressFacts) -> int | None:
         """Edit a no-longer-needed question in place (buttons gone); never a new message."""
@@ -264,7 +281,7 @@ class Delivery:
         question = decode(asked.payload).facts
         assert isinstance(question, QuestionFacts)
         text = withdrawn_question(question, await self._locale_for(message))
-        return await self._edit(chat_id, asked.message_id, text, None)
+        return await edit_text(self.bot, chat_id, asked.message_id, text, None)
 
     async def _acknowledge_answer(self, message: Outgoing, facts: ProgressFacts) -> int | None:
         """Edit the answered question in place (buttons gone), then refresh the group board."""
@@ -279,44 +296,27 @@ class Delivery:
             question = decode(asked.payload).facts
             assert isinstance(question, QuestionFacts)
             text = answered_question(question, facts.room_taken or "?", locale)
-            edited = await self._edit(chat_id, asked.message_id, text, None)
+            edited = await edit_text(self.bot, chat_id, asked.message_id, text, None)
         if edited is None:
             sent = await self.bot.send_message(chat_id, render(message, locale))
             edited = sent.message_id
         await self.refresh_board(facts.round_id)
         return edited
 
+    async def _outcome(self, message: Outgoing) -> str | None:
+        """The outcome as the group reads it ("Everyone agreed. The split: ..."), worded from
+        the settled split sent just before the agreement; None if there is none."""
+        facts = message.facts
+        assert isinstance(facts, AgreementFacts)
+        async with self._transaction() as tx:
+            settled = await tx.last_sent(
+                message.to.chat_id, [Kind.SETTLED.value], round_id=facts.round_id
+            )
+        return None if settled is None else render(decode(settled.payload), self.locale)
+
     async def refresh_board(self, round_id: int) -> None:
         """Ask for the group's progress message to show today's progress (coalesced)."""
         self._boards.request(round_id)
-
-    async def _rewrite_board(self, round_id: int) -> None:
-        """Rewrite the group's "questions are on their way" message with today's progress."""
-        async with self._turn:
-            status = await self.engine.status(round_id=round_id)
-        if status is None:
-            return
-        group = status.round.group_id
-        async with self._transaction() as tx:
-            posted = await tx.last_sent(group, [Kind.ASKING_STARTED.value], round_id=round_id)
-        if posted is None or posted.message_id is None:
-            return
-        try:
-            await self._edit(group, posted.message_id, board(status, self.locale), None)
-        except BadRequest as bad:
-            log.info("progress line not updated: %s", bad)
-        except ChatMigrated as moved:  # the *group* moved; its re-posted line comes next
-            await self._migrate(group, moved.new_chat_id)
-
-    async def _repost_board(self, message: Outgoing) -> int | None:
-        """The progress message, once more, in the chat the group moved to."""
-        facts = message.facts
-        assert isinstance(facts, RoundFacts)
-        async with self._turn:
-            status = await self.engine.status(round_id=facts.round_id)
-        text = render(message, self.locale) if status is None else board(status, self.locale)
-        sent = await self.bot.send_message(message.to.chat_id, fit(text))
-        return sent.message_id
 
     async def _update_proposal(self, message: Outgoing) -> None:
         """Show the acceptance count on the proposal itself; remove its buttons once settled."""
@@ -333,28 +333,12 @@ class Delivery:
         text = render(replace(message, kind=kind), self.locale)
         markup = keyboard(proposal, ()) if message.kind is Kind.ACCEPTED else None
         try:
-            await self._edit(message.to.chat_id, posted.message_id, text, markup)
+            await edit_text(self.bot, message.to.chat_id, posted.message_id, text, markup)
         except BadRequest as bad:
             log.info("proposal not updated: %s", bad)
         except ChatMigrated as moved:
             await self._migrate(message.to.chat_id, moved.new_chat_id)
         await self.refresh_board(facts.round_id)
-
-    async def _edit(
-        self, chat_id: int, message_id: int, text: str, markup: InlineKeyboardMarkup | None
-    ) -> int | None:
-        """Edit text (and keyboard); "not modified" counts as done, a vanished message as None."""
-        try:
-            edited = await self.bot.edit_message_text(
-                fit(text), chat_id=chat_id, message_id=message_id, reply_markup=markup
-            )
-        except BadRequest as bad:
-            if NOT_MODIFIED in str(bad):
-                return message_id
-            if "not found" in str(bad):
-                return None
-            raise
-        return edited.message_id if isinstance(edited, Message) else message_id
 
     # --- failures ----------------------------------------------------------------------------
 

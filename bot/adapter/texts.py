@@ -126,7 +126,8 @@ def agreement_caption(f: AgreementFacts, locale: str) -> str:
     """The caption of the written agreement's file."""
     return (
         f"The written agreement, agreed {agreement_time(f.settled_at)}: "
-        f"total {money(f.rent, f.currency, f.decimals, locale)}. Keep it with your papers."
+        f"total {money(f.rent, f.currency, f.decimals, locale)}. Keep it with your papers. "
+        f"{SHORT_CAUTION}"
     )
 
 
@@ -275,11 +276,12 @@ def _settings_lines(f: RoundFacts, locale: str) -> list[str]:
     return lines
 
 
-def _what_to_expect(f: RoundFacts) -> list[str]:
-    """Said once, when the questions start: how it goes, how long, and the assumptions."""
+def _what_to_expect(f: RoundFacts, *, estimate: bool = True) -> list[str]:
+    """Said when the questions start, and kept on the live status message afterwards: how it
+    goes, how long (``estimate``; the live line counts rounds itself), and the assumptions."""
     if f.one_by_one:
         how = "I ask one of you at a time, privately, until the prices settle."
-    elif f.expected_rounds is not None:
+    elif f.expected_rounds is not None and estimate:
         how = (
             "Each round, all of you get one private question at the same time; expect "
             f"about {f.expected_rounds} rounds."
@@ -297,8 +299,22 @@ def _what_to_expect(f: RoundFacts) -> list[str]:
     return lines
 
 
-def board(status: StatusFacts, locale: str) -> str:
-    """The group's progress line: counts and who is awaited, never anyone's answers."""
+def board(status: StatusFacts, locale: str, started: RoundFacts | None = None) -> str:
+    """The group's progress line: counts and who is awaited, never anyone's answers.
+
+    On the live status message (``started``: what the start of asking said) it keeps how the
+    questions go, the assumptions and, while the round runs, the date it would lapse.
+    """
+    progress = _progress(status, locale)
+    if started is None:
+        return progress
+    if status.round.phase in ("asking", "proposed"):
+        return "\n".join([progress, *_what_to_expect(started, estimate=False)])
+    assumptions = _what_to_expect(started)[1]
+    return "\n".join([progress, assumptions])
+
+
+def _progress(status: StatusFacts, locale: str) -> str:
     r = status.round
     waiting = ", ".join(name for _, name in status.waiting_for) or "nobody"
     if r.phase == "asking" and status.round_number is not None:

@@ -103,7 +103,8 @@ async def _wait_button(
 async def _wait_text(standin: BotApiStandIn, group: SimChat, fragment: str) -> None:
     world = standin.world
     await standin.wait_for(
-        lambda: any(fragment in (m.text or "") for m in world.messages_in(group)), ROUND_TIMEOUT
+        lambda: any(fragment in (m.text or m.caption or "") for m in world.messages_in(group)),
+        ROUND_TIMEOUT,
     )
 
 

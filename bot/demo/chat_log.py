@@ -15,7 +15,7 @@ from rich.console import Console
 from rich.text import Text
 
 from bot.demo.flatmates import Flatmate
-from bot.sandbox.models import SimMessage
+from bot.sandbox.models import SimChat, SimMessage
 from bot.sandbox.world import World
 
 #: Okabe & Ito's colour-blind-safe palette (as bot/adapter/pictures.py), one colour per flatmate.
@@ -97,6 +97,13 @@ class ChatLog:
             before = self._shown.get(key)
             if before is not None and before != self._body(message):
                 self._print_edit(message, before)
+
+    def group_posts(self, group: SimChat) -> tuple[str, ...]:
+        """The bot's new messages in the group, in order, each as its first line reads now
+        (edits are not counted: a quiet group gets few new messages and many rewrites)."""
+        return tuple(
+            self._body(m).split("\n", 1)[0] for m in self.world.messages_in(group) if m.from_bot
+        )
 
     def pressed(self, mate: Flatmate, message: SimMessage, label: str) -> None:
         """A press, printed when it happens (presses are not messages)."""

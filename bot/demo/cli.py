@@ -32,6 +32,9 @@ from bot.sandbox import SpecNotFound
 from solver.problem import MIN_TOLERANCE
 from solver.simulate import MODELS
 
+#: Characters of a group post's first line shown in the list of the group's posts.
+POST_LINE = 72
+
 
 def tolerance_minor(text: str) -> int:
     """``1.00`` (euros) -> 100 cents, exactly; more decimals than cents is refused."""
@@ -120,6 +123,12 @@ def summary(console: Console, result: DemoResult) -> None:
         console.print(f"Picture of the walk (as sent to the group): {result.picture}")
     else:
         console.print("No picture was sent to the group (see the log above).")
+    console.print(
+        f"New messages in the group: {len(result.group_posts)} (everything else was an edit):"
+    )
+    for number, first_line in enumerate(result.group_posts, start=1):
+        shown = first_line if len(first_line) <= POST_LINE else first_line[: POST_LINE - 1] + "…"
+        console.print(f"  {number}. {shown}", markup=False, highlight=False)
     console.print(f"The bot's database: {result.database}")
     console.print(
         f"{result.api_calls} Bot API calls, {len(result.violations)} against the spec; "

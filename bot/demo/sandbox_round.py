@@ -49,6 +49,10 @@ DATABASE_NAME = "demo.sqlite3"
 PICTURE_NAME = "walk.png"
 #: The written agreement comes as Markdown and HTML.
 AGREEMENT_FILES = 2
+#: How the live status message reads once the round is settled, and how long to wait for it
+#: (its rewrites are a few seconds apart: bot.adapter.board_edits).
+DONE = "Done: "
+STATUS_PATIENCE = 10.0
 _Check = Callable[[StatusFacts], bool]
 
 
@@ -91,6 +95,8 @@ class DemoResult:
     group_id: int
     #: (chat id, caption) of every sendPhoto the stand-in accepted
     sent_photos: tuple[tuple[int, str | None], ...] = field(default=())
+    #: the bot's new messages in the group, in order, by their first line (edits not counted)
+    group_posts: tuple[str, ...] = field(default=())
     violations: tuple[str, ...] = field(default=())
 
     def envy(self, name: str) -> float:
@@ -202,6 +208,19 @@ class _Round:
             return await self.standin.wait_for(sent, timeout=5)
         return None
 
+    async def final_status(self, phase: str) -> None:
+        """Give a settled round's live status message its last rewrite (rewrites come a few
+        seconds apart)."""
+        if phase != "settled":
+            return
+
+        def rewritten() -> bool | None:
+            group = self.standin.world.messages_in(self.group)
+            return any(m.from_bot and (m.text or "").startswith(DONE) for m in group) or None
+
+        with contextlib.suppress(TimeoutError):
+            await self.standin.wait_for(rewritten, timeout=STATUS_PATIENCE)
+
     async def documents(self, phase: str) -> list[SimMessage]:
         """The written agreement's files (Markdown and HTML) once everyone agreed."""
 
@@ -286,6 +305,8 @@ async def run_round(
             documents = await demo.documents(final.round.phase)
             walk = await _stored_walk(demo.runtime, group.id)
             shown = await _questions_shown(demo.runtime, group.id)
+            await demo.final_status(final.round.phase)
+            group_posts = chat_log.group_posts(group)
             stop_printing.set()
             await follower
         picture = _save_picture(photo, options.out)
@@ -313,6 +334,7 @@ async def run_round(
                 (c["chat_id"], c.get("caption")) for c in standin.calls_to("sendPhoto")
             ),
             violations=tuple(standin.violations + standin.response_violations),
+            group_posts=group_posts,
         )
 
 

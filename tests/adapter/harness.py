@@ -154,7 +154,7 @@ class Flat:
                 (
                     m
                     for m in reversed(world.messages_in(self.group))
-                    if m.from_bot and fragment in (m.text or "")
+                    if m.from_bot and fragment in (m.text or m.caption or "")
                 ),
                 None,
             )
@@ -224,7 +224,7 @@ class Flat:
                 (
                     m
                     for m in world.messages_in(self.group)
-                    if m.from_bot and (m.text or "").startswith("Everyone agreed")
+                    if m.from_bot and (m.text or m.caption or "").startswith("Everyone agreed")
                 ),
                 None,
             )

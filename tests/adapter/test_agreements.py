@@ -11,7 +11,7 @@ from pathlib import Path
 from telegram import Bot
 
 from bot.adapter.application import running
-from bot.adapter.documents import send_agreement
+from bot.adapter.documents import CAPTION_LIMIT, send_agreement
 from bot.rounds.messages import AgreementFacts, AgreementLine, Kind, Outgoing, Recipient
 from bot.sandbox import BotApiStandIn
 from tests.adapter.harness import ADDRESS, NAMES, ROOMS, Flat, app_for, euros
@@ -36,7 +36,7 @@ async def test_shared_costs_round_then_history(standin: BotApiStandIn, db_path: 
         await flat.wait_group("Everyone is in")
         settled = await flat.play_until_settled()
         assert settled is not None
-        text = settled.text or ""
+        text = settled.text or settled.caption or ""
         # 300.00 over three: 100.00 each, shown beside each room price (Babel's formatting).
         assert text.count(f"+ {euros(100_00)} shared") == 3
         assert f"which matches the rent of {euros(1_800_00)}" in text
@@ -58,12 +58,11 @@ async def test_shared_costs_round_then_history(standin: BotApiStandIn, db_path: 
             assert f"{person.first_name}: " in (listed.text or "")
 
 
-async def test_agreement_is_sent_as_two_documents(standin: BotApiStandIn) -> None:
-    group = standin.world.add_group(ADDRESS, [standin.world.add_user(NAMES[0])])
+def one_line_agreement(group_id: int) -> AgreementFacts:
     line = AgreementLine(NAMES[0], 1, 0, ROOMS[0], 900_00, 0, 1_767_225_600, (900_00, 600_00))
-    facts = AgreementFacts(
+    return AgreementFacts(
         3,
-        group.id,
+        group_id,
         1_767_225_600,
         1_500_00,
         "EUR",
@@ -78,7 +77,11 @@ async def test_agreement_is_sent_as_two_documents(standin: BotApiStandIn) -> Non
         100,
         0,
     )
-    message = Outgoing(Recipient.group(group.id), Kind.AGREEMENT, facts)
+
+
+async def test_agreement_is_sent_as_two_documents(standin: BotApiStandIn) -> None:
+    group = standin.world.add_group(ADDRESS, [standin.world.add_user(NAMES[0])])
+    message = Outgoing(Recipient.group(group.id), Kind.AGREEMENT, one_line_agreement(group.id))
     async with Bot(
         standin.token, base_url=standin.base_url, base_file_url=standin.base_file_url
     ) as bot:
@@ -89,6 +92,28 @@ async def test_agreement_is_sent_as_two_documents(standin: BotApiStandIn) -> Non
     html_text = documents[-1].document.content.decode("utf-8")  # type: ignore[union-attr]
     assert f"<td>{NAMES[0]}</td><td>{ROOMS[0]}</td><td>900.00 EUR</td>" in html_text
     assert f"{ROOMS[1]} stays empty" in html_text
+
+
+async def test_the_outcome_is_the_first_file_caption_when_it_fits(
+    standin: BotApiStandIn,
+) -> None:
+    # Telegram Bot API, sendDocument: caption 0-1024 characters (the stand-in checks every
+    # call against the vendored spec); a longer outcome becomes a message of its own.
+    group = standin.world.add_group(ADDRESS, [standin.world.add_user(NAMES[0])])
+    message = Outgoing(Recipient.group(group.id), Kind.AGREEMENT, one_line_agreement(group.id))
+    short = "Everyone agreed. The split: " + "x" * (CAPTION_LIMIT - 28)
+    long = short + "y"
+    async with Bot(
+        standin.token, base_url=standin.base_url, base_file_url=standin.base_file_url
+    ) as bot:
+        await send_agreement(bot, message, "en", short)
+        fits = [m for m in standin.world.messages_in(group) if m.from_bot]
+        await send_agreement(bot, message, "en", long)
+        apart = [m for m in standin.world.messages_in(group) if m.from_bot][len(fits) :]
+    assert [m.document is not None for m in fits] == [True, True]
+    assert fits[0].caption == short and "Keep it with your papers" in (fits[1].caption or "")
+    assert [m.document is not None for m in apart] == [False, True, True]
+    assert apart[0].text == long and apart[1].caption is None
 
 
 async def test_the_retention_policy_runs_once_a_day(standin: BotApiStandIn, db_path: Path) -> None:

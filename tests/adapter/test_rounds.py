@@ -44,7 +44,7 @@ async def check_agreement(flat: Flat, tolerance: int) -> None:
         # The solver's promise: nobody envies anyone by more than the tolerance.
         assert flat.tenants[person.id].envy(prices, room) <= tolerance
     settled = await flat.wait_group("Everyone agreed")
-    text = settled.text or ""
+    text = settled.text or settled.caption or ""
     assert CAUTION in text
     assert f"Total {euros(flat.rent)}, which matches the rent" in text
     for person in flat.people:
@@ -87,18 +87,25 @@ async def test_five_flatmates_agree(standin: BotApiStandIn, db_path: Path) -> No
     assert all(record.answered for record in standin.world.callbacks.values())
 
 
-async def test_setting_up_and_joining_post_two_group_messages(
+async def test_setting_up_joining_and_starting_post_one_group_message(
     standin: BotApiStandIn, db_path: Path
 ) -> None:
-    # A quiet group chat (common practice for bots in groups): set-up and joins rewrite the
-    # open round's message; only the round's opening and the start of the questions are new.
+    # A quiet group chat (common practice for bots in groups): set-up, joins and the start
+    # of the questions all rewrite the round's one status message.
     flat = Flat.invent(standin, db_path, size=3, rent=1_500_00, seed=4)
     async with running(app_for(standin, db_path)):
         await set_up_and_join(flat, "1500.00 EUR", "10")
     posted = [m for m in standin.world.messages_in(flat.group) if m.from_bot]
-    assert len(posted) == 2
-    opened, started = posted
-    assert (opened.text or "").startswith("The round is open")
-    assert "Members (3 of 3)" in (opened.text or "")  # rewritten as people joined
-    assert any(b.text == "Count me in" for row in opened.buttons() for b in row)
-    assert (started.text or "").startswith("Everyone is in")
+    assert len(posted) == 1
+    (status,) = posted
+    text = status.text or ""
+    assert text.startswith("Everyone is in")  # the opening message, rewritten at /begin
+    assert "Members (3 of 3)" in text  # ... after being rewritten as people joined
+    assert "I assume that you would take a free room" in text
+    assert not any(b.text == "Count me in" for row in status.buttons() for b in row)
+    joined = [
+        c
+        for c in standin.calls
+        if c.method == "editMessageText" and c.params.get("message_id") == status.message_id
+    ]
+    assert len(joined) >= 4  # three joins and the start of the questions

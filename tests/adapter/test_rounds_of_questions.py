@@ -55,5 +55,7 @@ async def test_a_round_ends_exactly_in_the_rounds_the_solver_predicts(
     assert proposal is not None
     # A certificate: every member chose their room at exactly the proposed prices.
     assert all(e.prices == proposal.prices for e in proposal.evidence)
-    assert "Each of you chose your room at exactly these prices." in (settled.text or "")
+    assert "Each of you chose your room at exactly these prices." in (
+        settled.text or settled.caption or ""
+    )
     await check_agreement(flat, tolerance=0)

@@ -72,7 +72,7 @@ async def test_two_bot_processes_share_a_round_over_webhooks(
         )
         assert to_first and to_second
         assert not set(to_first) & set(to_second)
-        assert "which matches the rent" in (settled.text or "")
+        assert "which matches the rent" in (settled.text or settled.caption or "")
         # a request with a wrong or missing secret is refused and changes nothing
         for app in apps:  # presses are answered before their messages go out: let them go
             assert await runtime(app).delivery.flush()

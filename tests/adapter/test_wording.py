@@ -8,6 +8,8 @@ form wherever prices are shown again).
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import pytest
 
 from bot.adapter import texts
@@ -93,6 +95,22 @@ def test_the_agreed_state_is_called_agreed() -> None:
     facts = RoundFacts(1, -1, Phase.SETTLED.value, 1850_00, "EUR", 2, ROOMS, 100, 0, ("Ines",))
     assert texts.board(StatusFacts(facts, 9, ()), "en").startswith("Done: everyone agreed")
     assert "Settled" not in _division(Kind.SETTLED)
+
+
+@pytest.mark.parametrize("phase", list(Phase))
+def test_the_live_status_keeps_what_the_start_of_asking_said(phase: Phase) -> None:
+    started = replace(
+        RoundFacts(1, -1, "asking", 1850_00, "EUR", 2, ROOMS, 100, 0, ("Ines",)),
+        expected_rounds=3,
+        lapses_at=1_767_225_600,  # 2026-01-01 00:00 UTC
+    )
+    facts = replace(started, phase=phase.value, expected_rounds=None, lapses_at=None)
+    shown = texts.board(StatusFacts(facts, 3, ((7, "Ines"),)), "en", started)
+    assert shown.startswith(texts.board(StatusFacts(facts, 3, ((7, "Ines"),)), "en"))
+    assert "I assume that you would take a free room" in shown
+    running = phase in (Phase.ASKING, Phase.PROPOSED)
+    # The lapse date matters only while the round runs.
+    assert ("If no split is agreed by 2026-01-01" in shown) is running
 
 
 def test_help_is_short_and_setup_explains_every_option_in_one_line() -> None:

@@ -117,8 +117,32 @@ def test_main_prints_summary_and_how_it_works(tmp_path: Path) -> None:
     text = " ".join(printed.getvalue().split())  # the console wraps long lines
     assert code == 0
     assert "not legal or financial advice" in text
-    # The caution comes with the split, not before any split exists.
-    assert text.index("not legal or financial advice") > text.index("Suggested split")
+    # The caution comes with the split (its picture goes just before it), not before any
+    # split exists.
+    first_split = min(text.index("(picture walk.png"), text.index("Suggested split"))
+    assert text.index("not legal or financial advice") > first_split
     assert "two assumptions" in text
     assert str(tmp_path / "walk.png") in text
     assert (tmp_path / "walk.png").is_file()
+
+
+async def test_a_plain_four_member_round_posts_at_most_five_group_messages(
+    tmp_path: Path,
+) -> None:
+    printed = io.StringIO()
+    console = Console(file=printed, width=120, highlight=False)
+    result = await run_round(DemoOptions(rooms=4, seed=7, out=tmp_path), console)
+    chat_log = printed.getvalue()
+    assert result.phase == "settled"
+    assert "pressed [I'd rather swap]" not in chat_log  # a plain round: nobody objected
+    # The target: at most five new group messages; everything else is an edit.
+    posts = result.group_posts
+    assert len(posts) <= 5
+    status, picture, proposal, outcome, paper = posts
+    assert status.startswith("Done: everyone agreed")  # the live status, rewritten to the end
+    assert picture.startswith("(picture walk.png")  # before the proposal, so before agreeing
+    assert proposal.startswith("Suggested split")
+    assert outcome.startswith("(file ") and "Everyone agreed" in outcome
+    assert paper.startswith("(file ")
+    # The chat log printed the picture before anyone could agree to the split.
+    assert chat_log.index("(picture walk.png") < chat_log.index("pressed [Agree]")
