@@ -52,15 +52,15 @@ async def test_new_rent_is_confirmed_by_everyone_and_listed_beside_the_old(
             done = [
                 m
                 for m in world.messages_in(flat.group)
-                if m.from_bot and (m.text or "").startswith("Everyone agreed")
+                if m.from_bot and (m.text or m.caption or "").startswith("Everyone agreed")
             ]
             return done if len(done) == 2 else None
 
         both = await standin.wait_for(settled_twice, timeout=10)
-        # the picture follows each proposal: the first round's and the re-priced one
+        # a picture goes out with each proposal: the first round's and the re-priced one
         pictures = [m for m in world.messages_in(flat.group) if m.photo is not None]
         assert len(pictures) == 2
-        assert "The rent changed from" in (both[1].text or "")
+        assert "The rent changed from" in (both[1].text or both[1].caption or "")
         world.user_says(flat.admin, flat.group, "/agreements")
         listed = await flat.wait_group("Agreements of this group")
         history = listed.text or ""
