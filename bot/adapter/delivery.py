@@ -267,7 +267,8 @@ class Delivery:
         return await self._edit(chat_id, asked.message_id, text, None)
 
     async def _acknowledge_answer(self, message: Outgoing, facts: ProgressFacts) -> int | None:
-        """Edit the answered question in place (buttons gone), then refresh the group board."""
+        """Edit the answered question in place (its room buttons replaced by "I meant another
+        room"), then refresh the group board."""
         chat_id = message.to.chat_id
         async with self._transaction() as tx:
             asked = await tx.last_sent(
@@ -279,10 +280,10 @@ class Delivery:
             question = decode(asked.payload).facts
             assert isinstance(question, QuestionFacts)
             text = answered_question(question, facts.room_taken or "?", locale)
-            edited = await self._edit(chat_id, asked.message_id, text, None)
-        if edited is None:
-            sent = await self.bot.send_message(chat_id, render(message, locale))
-            edited = sent.message_id
+            edited = await self._edit(chat_id, asked.message_id, text, keyboard(message, ()))
+        if edited is None:  # the question's message is gone: say it anew, with its button
+            text, markup = render(message, locale), keyboard(message, ())
+            edited = (await self.bot.send_message(chat_id, text, reply_markup=markup)).message_id
         await self.refresh_board(facts.round_id)
         return edited
 

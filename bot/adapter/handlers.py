@@ -346,6 +346,10 @@ def _press_feedback(out: list[Outgoing]) -> str:
         return "Saved."
     if Kind.MEMBER_JOINED in kinds:
         return "You are in. Please also open a private chat with me."
+    if Kind.CHANGE_PROMPT in kinds:
+        return "I sent you a private message: pick the room you meant."
+    if Kind.ANSWER_CHANGED in kinds:
+        return "Changed and saved."
     if Kind.ROOM_PROMPT in kinds:
         return "I sent you a private message about which room you would rather have."
     if kinds & {Kind.ACCEPTED, Kind.SETTLED}:

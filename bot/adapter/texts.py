@@ -12,6 +12,7 @@ from decimal import Decimal
 from babel import Locale, UnknownLocaleError
 from babel.numbers import format_currency
 
+from bot.adapter.change_texts import change_text, disagree_text, split_note
 from bot.adapter.private_texts import (
     WITHDRAWN_NOTE,
     earlier_offer,
@@ -25,6 +26,8 @@ from bot.rounds.agreement_document import when as agreement_time
 from bot.rounds.caution import CAUTION, SHORT_CAUTION
 from bot.rounds.messages import (
     AgreementFacts,
+    ChangeFacts,
+    DisagreeFacts,
     DivisionFacts,
     EarlierFacts,
     Kind,
@@ -36,6 +39,7 @@ from bot.rounds.messages import (
     RefusalFacts,
     RoughFacts,
     RoundFacts,
+    SplitNoteFacts,
     StatusFacts,
     WaitingFacts,
 )
@@ -118,6 +122,12 @@ def render(message: Outgoing, locale: str, *, need_private_chat: tuple[str, ...]
     if isinstance(f, AgreementFacts):
         # Sent as files (agreement_files); as text only if sent like any other message.
         return markdown(f).text
+    if isinstance(f, ChangeFacts):
+        return change_text(f, message.kind, locale)
+    if isinstance(f, DisagreeFacts):
+        return disagree_text(f, locale)
+    if isinstance(f, SplitNoteFacts):
+        return split_note(f, message.kind)
     return round_text(f, message.kind, locale, need_private_chat)
 
 
@@ -193,6 +203,11 @@ def division(f: DivisionFacts, kind: Kind, locale: str) -> str:
             "Each of you chose your room at exactly these prices."
             if f.exact
             else f"Each of you chose your room at prices within {cash(f.tolerance)} of these.",
+            *(
+                ["Objections are used up in this round: agree, or an admin ends the round."]
+                if f.last_choice
+                else []
+            ),
             "",
             CAUTION,
         ]
