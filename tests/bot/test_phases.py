@@ -16,6 +16,7 @@ EXPECTED = {
     (Phase.GATHERING, Step.BEGIN_ASKING): Phase.ASKING,
     (Phase.ASKING, Step.WALK_PROPOSED): Phase.PROPOSED,
     (Phase.PROPOSED, Step.OBJECTION_UPHELD): Phase.ASKING,
+    (Phase.PROPOSED, Step.ANSWER_CHANGED): Phase.ASKING,
     (Phase.PROPOSED, Step.ALL_ACCEPTED): Phase.SETTLED,
     **{(p, Step.CANCEL): Phase.CANCELLED for p in OPEN},
     **{(p, Step.DEADLINE_PASSED): Phase.LAPSED for p in OPEN},
