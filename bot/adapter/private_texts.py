@@ -97,7 +97,10 @@ def question(f: QuestionFacts, locale: str, *, reminder: bool) -> str:
     )
 
 
-WITHDRAWN_NOTE = "No longer needed: the round went on without this answer. Nothing to do."
+WITHDRAWN_NOTE = (
+    "No longer needed: the round went on without this answer, or a changed answer replaced "
+    "this question. Nothing to do."
+)
 
 
 def withdrawn_question(f: QuestionFacts, locale: str) -> str:

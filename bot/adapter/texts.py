@@ -341,7 +341,7 @@ COMMANDS: tuple[tuple[str, str], ...] = (
     ("begin", "Start the private questions once every room has a member"),
     ("status", "Where the round stands and who it is waiting for"),
     ("leave", "Leave the round before the questions start"),
-    ("myanswers", "Get your own answers, privately"),
+    ("myanswers", "Get your own answers, privately, and change one you misclicked"),
     ("nextround", "Ask the next round now with the answers in (admin)"),
     ("cancelround", "Stop the open round (admin)"),
     ("adjust", "Change the settings before the questions start (admin)"),
@@ -388,7 +388,11 @@ def help_text(topic: str = "") -> str:
         "/begin once everyone is in.\n"
         '• Everyone: tap "Count me in", open the private chat with me, answer each round\'s '
         "question there, then agree to the split or ask to swap.\n"
-        "• /status shows where the round is; /myanswers sends you your own answers; "
-        "/help how explains the method.\n"
+        '• Pressed the wrong room? Tap "I meant another room" on the answered question, or '
+        "use /myanswers, which sends you your answers with a button to change each.\n"
+        "• An objection that leads back to the same split is never posted again: I ask the "
+        "objector which of their two answers is right, and after a few objections the group "
+        "chooses between agreeing and an admin ending the round.\n"
+        "• /status shows where the round is; /help how explains the method.\n"
         f"{SHORT_CAUTION}"
     )

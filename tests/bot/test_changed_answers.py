@@ -108,8 +108,14 @@ async def test_a_changed_misclick_ends_where_a_round_without_it_ends(
     store = await SqliteStore.open(tmp_path / "changed.sqlite3", clock=lambda: NOW)
     try:
         clean, _ = await _settle(clean_store, method, misclick_at=None)
-        changed, _ = await _settle(store, method, misclick_at=misclick_at)
+        changed, play = await _settle(store, method, misclick_at=misclick_at)
         assert changed.lines == clean.lines
+        # Once the round is agreed, "I meant another room" refuses and changes nothing.
+        answered = next(m for m in play.log if m.kind is Kind.PROGRESS and m.choices)
+        member = next(m for m in play.members if m.user_id == answered.to.chat_id)
+        late = await play.send(Press("late", member, answered.choices[0].token))
+        assert [m.kind for m in late] == [Kind.REFUSAL]
+        assert "agreed" in late[0].facts.reason  # type: ignore[union-attr]
         dump = await store.dump()
         check_dump(dump)
         clean_dump = await clean_store.dump()
