@@ -64,13 +64,14 @@ from bot.rounds.store_port import Store, Transaction
 log = logging.getLogger(__name__)
 NOT_MODIFIED = "message is not modified"
 
-
 #: A message claimed for sending this long ago was lost with its process: send it again.
 STALE_CLAIM_SECONDS = 120
 #: Delivery transactions waiting for the store at once (events get the turns in between).
 DELIVERY_TRANSACTIONS_AT_ONCE = 2
 #: At shutdown, how long the senders may go on to finish what they are sending.
 SHUTDOWN_GRACE_SECONDS = 5.0
+#: The group messages people vote with: a split, or the note that it came back.
+VOTED_ON = [k.value for k in (Kind.PROPOSAL, Kind.SAME_SPLIT, Kind.LAST_CHOICE)]
 
 
 class SendLater(Exception):
@@ -320,13 +321,12 @@ class Delivery:
         return sent.message_id
 
     async def _update_proposal(self, message: Outgoing) -> None:
-        """Show the acceptance count on the proposal itself; remove its buttons once settled."""
+        """Show the acceptance count on the split (or the "same split" note); buttons go once
+        settled."""
         facts = message.facts
         assert isinstance(facts, DivisionFacts)
         async with self._transaction() as tx:
-            posted = await tx.last_sent(
-                message.to.chat_id, [Kind.PROPOSAL.value], round_id=facts.round_id
-            )
+            posted = await tx.last_sent(message.to.chat_id, VOTED_ON, round_id=facts.round_id)
         if posted is None or posted.message_id is None:
             return
         proposal = decode(posted.payload)

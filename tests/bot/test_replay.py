@@ -12,13 +12,15 @@ from __future__ import annotations
 from collections.abc import Mapping
 
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 
 from bot.rounds.replay import CannotReplay, answer_index, events_of, rebuild
 from bot.rounds.searches import AnySearch
 from solver import Problem, Question, start
 from solver.simulate import Tenant, random_tenants
 
-ROOMS = ("Attic", "Garden room", "Bay window")
+ROOMS = ("Attic", "Garden room", "Bay window", "Cellar")
 
 
 def _answer(tenants: Mapping[str, Tenant], question: Question) -> int:
@@ -54,7 +56,7 @@ def _drive(
 def test_changing_a_misclick_gives_the_search_that_never_saw_it(
     method: str, seed: int, misclick_at: int
 ) -> None:
-    problem = Problem(300_000, ROOMS, ("1", "2", "3"))
+    problem = Problem(300_000, ROOMS[:3], ("1", "2", "3"))
     tenants = random_tenants(problem, "quasi-linear", seed)
     search = start(problem, method="walk" if method == "walk" else "parallel")
     wrong = _drive(search, tenants, misclick_at=misclick_at, stop_after=misclick_at + 5)
@@ -74,8 +76,40 @@ def test_changing_a_misclick_gives_the_search_that_never_saw_it(
     assert changed.search.to_json() == never.to_json()
 
 
+@settings(max_examples=40, deadline=None)
+@given(
+    method=st.sampled_from(["parallel", "walk"]),
+    rooms=st.integers(min_value=2, max_value=4),
+    seed=st.integers(min_value=0, max_value=10_000),
+    misclick_at=st.integers(min_value=0, max_value=8),
+    changed_after=st.integers(min_value=0, max_value=6),
+)
+def test_any_misclick_changed_later_gives_the_search_that_never_saw_it(
+    method: str, rooms: int, seed: int, misclick_at: int, changed_after: int
+) -> None:
+    """The same property over room counts, tenants, and when the misclick is noticed."""
+    members = tuple(str(i + 1) for i in range(rooms))
+    problem = Problem(300_000, ROOMS[:rooms], members)
+    tenants = random_tenants(problem, "quasi-linear", seed)
+    how = "walk" if method == "walk" else "parallel"
+    search = start(problem, method=how)
+    wrong = _drive(search, tenants, misclick_at=misclick_at, stop_after=misclick_at + 1)
+    assume(wrong is not None and search.proposal() is None)
+    assert wrong is not None
+    _drive(search, tenants, stop_after=changed_after)
+    question, _ = wrong
+    index = answer_index(search, question.id)
+    assume(index is not None)  # a proposal came first and an objection is not an answer
+    assert index is not None
+    changed = rebuild(search, index, _answer(tenants, question))
+    _drive(changed.search, tenants)
+    never = start(problem, method=how)
+    _drive(never, tenants)
+    assert changed.search.to_json() == never.to_json()
+
+
 def test_a_search_that_does_not_replay_is_refused_not_guessed() -> None:
-    problem = Problem(300_000, ROOMS, ("1", "2", "3"))
+    problem = Problem(300_000, ROOMS[:3], ("1", "2", "3"))
     tenants = random_tenants(problem, "quasi-linear", 1)
     search = start(problem)
     _drive(search, tenants, stop_after=4)
