@@ -12,8 +12,10 @@ from pathlib import Path
 
 from bot.adapter.application import running
 from bot.demo.flatmates import Asked, Proposed
+from bot.rounds.messages import DivisionFacts, Kind
+from bot.rounds.outbox_codec import decode
 from bot.sandbox import BotApiStandIn, SimMessage
-from tests.adapter.harness import Flat, app_for
+from tests.adapter.harness import Flat, app_for, outbox_rows
 from tests.adapter.test_rounds import set_up_and_join
 
 
@@ -59,7 +61,18 @@ async def test_an_objector_cannot_keep_the_group_waiting(
         message, data = await standin.wait_for(end_button, 10)
         await flat.press(flat.admin, message, data)
         await flat.wait_group("The round was cancelled")
-    splits = [t for t in flat.group_texts() if t.startswith("Suggested split")]
+    # Every split posted to the group, as stored with the message that posted it.
+    posted = [
+        decode(row["payload"]).facts
+        for row in await outbox_rows(db_path)
+        if row["kind"] == Kind.PROPOSAL.value and row["chat_id"] == flat.group.id
+    ]
+    splits = [
+        tuple((line.user_id, line.room_index, line.price) for line in f.lines)
+        for f in posted
+        if isinstance(f, DivisionFacts)
+    ]
+    assert len(splits) == len(posted) >= 1
     assert len(splits) == len(set(splits)), "the same split was posted twice"
     # The walk came back to a split the group had seen: a short note, not the split again.
     assert any(t.startswith("The answers le") for t in flat.group_texts())
