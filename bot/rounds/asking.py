@@ -58,12 +58,15 @@ async def sync_search(ctx: Context, record: RoundRecord, search: AnySearch) -> N
     if search.proposal() is None and max(search.questions_per_member().values()) > limit:
         await _stop_at_limit(ctx, record, search)
         return
-    stored = await ctx.tx.questions(record.id)
     for question in search.open_questions():
-        if question_ids.stored_open(stored, question) is None:
-            qid = question_ids.fresh_id(stored, question.id)
-            await ask(ctx, record, search, question_ids.as_stored(question, qid))
-            stored = await ctx.tx.questions(record.id)
+        same_id = await ctx.tx.question(record.id, question.id)
+        if same_id is None:  # the usual case: a new question under the search's own id
+            await ask(ctx, record, search, question)
+        elif not (same_id.open and question_ids.same_question(same_id, question)):
+            stored = await ctx.tx.questions(record.id)  # after a change: ids are reused
+            if question_ids.stored_open(stored, question) is None:
+                qid = question_ids.fresh_id(stored, question.id)
+                await ask(ctx, record, search, question_ids.as_stored(question, qid))
     await withdraw_unneeded(ctx, record, search)
     proposal = search.proposal()
     current = await ctx.tx.round_by_id(record.id)
