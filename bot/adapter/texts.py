@@ -66,7 +66,12 @@ HOW_IT_WORKS = (
     "it.\n\n"
     '"Within tolerance" (for a split found by the walk) means each of you chose your room at '
     "prices at most the tolerance away from the final ones: if money counts one-for-one for "
-    "you, you would not pay more than the tolerance to swap with anyone."
+    "you, you would not pay more than the tolerance to swap with anyone.\n\n"
+    "Asking to swap is a new answer too, and I ask again. If the answers lead back to a split "
+    "you have already seen, I do not post it again: I show the one who asked their two "
+    "answers side by side, to keep the earlier one or change it. After two such returns, or "
+    "four swaps asked in all, the group chooses: agree to the best split found, or an admin "
+    "ends the round."
 )
 
 
@@ -389,10 +394,7 @@ def help_text(topic: str = "") -> str:
         '• Everyone: tap "Count me in", open the private chat with me, answer each round\'s '
         "question there, then agree to the split or ask to swap.\n"
         '• Pressed the wrong room? Tap "I meant another room" on the answered question, or '
-        "use /myanswers, which sends you your answers with a button to change each.\n"
-        "• An objection that leads back to the same split is never posted again: I ask the "
-        "objector which of their two answers is right, and after a few objections the group "
-        "chooses between agreeing and an admin ending the round.\n"
-        "• /status shows where the round is; /help how explains the method.\n"
+        "/myanswers (your answers, each with a button to change it). /status shows where the "
+        "round is; /help how explains the method.\n"
         f"{SHORT_CAUTION}"
     )
