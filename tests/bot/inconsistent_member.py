@@ -94,6 +94,9 @@ async def _vote(play: Rehearsal, message: Outgoing, objector: Actor) -> list[Out
         own = prompt.facts.your_room
         rather = next(c for c in prompt.choices if c.room == (0 if own != 0 else 2))
         return await play.send(Press(play.key(), objector, rather.token))
+    # Only an admin ends the round: the objector's press is refused and changes nothing.
+    refused = await play.send(Press(play.key(), objector, buttons[Action.END_ROUND].token))
+    assert [m.kind for m in refused] == [Kind.REFUSAL]
     votes: list[Outgoing] = []
     for member in play.members:
         if member != objector:
