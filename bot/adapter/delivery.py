@@ -71,13 +71,14 @@ from bot.rounds.store_port import Store, Transaction
 
 log = logging.getLogger(__name__)
 
-
 #: A message claimed for sending this long ago was lost with its process: send it again.
 STALE_CLAIM_SECONDS = 120
 #: Delivery transactions waiting for the store at once (events get the turns in between).
 DELIVERY_TRANSACTIONS_AT_ONCE = 2
 #: At shutdown, how long the senders may go on to finish what they are sending.
 SHUTDOWN_GRACE_SECONDS = 5.0
+#: The group messages people vote with: a split, or the note that it came back.
+VOTED_ON = [k.value for k in (Kind.PROPOSAL, Kind.SAME_SPLIT, Kind.LAST_CHOICE)]
 
 
 class SendLater(Exception):
@@ -284,7 +285,8 @@ class Delivery:
         return await edit_text(self.bot, chat_id, asked.message_id, text, None)
 
     async def _acknowledge_answer(self, message: Outgoing, facts: ProgressFacts) -> int | None:
-        """Edit the answered question in place (buttons gone), then refresh the group board."""
+        """Edit the answered question in place (its room buttons replaced by "I meant another
+        room"), then refresh the group board."""
         chat_id = message.to.chat_id
         async with self._transaction() as tx:
             asked = await tx.last_sent(
@@ -296,10 +298,12 @@ class Delivery:
             question = decode(asked.payload).facts
             assert isinstance(question, QuestionFacts)
             text = answered_question(question, facts.room_taken or "?", locale)
-            edited = await edit_text(self.bot, chat_id, asked.message_id, text, None)
-        if edited is None:
-            sent = await self.bot.send_message(chat_id, render(message, locale))
-            edited = sent.message_id
+            edited = await edit_text(
+                self.bot, chat_id, asked.message_id, text, keyboard(message, ())
+            )
+        if edited is None:  # the question's message is gone: say it anew, with its button
+            text, markup = render(message, locale), keyboard(message, ())
+            edited = (await self.bot.send_message(chat_id, text, reply_markup=markup)).message_id
         await self.refresh_board(facts.round_id)
         return edited
 
@@ -319,13 +323,12 @@ class Delivery:
         self._boards.request(round_id)
 
     async def _update_proposal(self, message: Outgoing) -> None:
-        """Show the acceptance count on the proposal itself; remove its buttons once settled."""
+        """Show the acceptance count on the split (or the "same split" note); buttons go once
+        settled."""
         facts = message.facts
         assert isinstance(facts, DivisionFacts)
         async with self._transaction() as tx:
-            posted = await tx.last_sent(
-                message.to.chat_id, [Kind.PROPOSAL.value], round_id=facts.round_id
-            )
+            posted = await tx.last_sent(message.to.chat_id, VOTED_ON, round_id=facts.round_id)
         if posted is None or posted.message_id is None:
             return
         proposal = decode(posted.payload)

@@ -13,9 +13,10 @@ from telegram import Chat, Message, Update, User
 from telegram.constants import ChatMemberStatus, ChatType
 from telegram.error import TelegramError
 
+from bot.adapter.help_texts import help_text
 from bot.adapter.keyboards import group_of_payload, token_of
 from bot.adapter.runtime import AnyContext, runtime_of
-from bot.adapter.texts import CALLBACK_TEXT_LIMIT, fit, help_text, history, pick_locale, refusal
+from bot.adapter.texts import CALLBACK_TEXT_LIMIT, fit, history, pick_locale, refusal
 from bot.rounds.errors import InvalidSetup
 from bot.rounds.events import (
     Actor,
@@ -370,6 +371,10 @@ def _press_feedback(out: list[Outgoing]) -> str:
         return "Saved."
     if Kind.MEMBER_JOINED in kinds:
         return "You are in. Please also open a private chat with me."
+    if Kind.CHANGE_PROMPT in kinds:
+        return "I sent you a private message: pick the room you meant."
+    if Kind.ANSWER_CHANGED in kinds:
+        return "Changed and saved."
     if Kind.ROOM_PROMPT in kinds:
         return "I sent you a private message about which room you would rather have."
     if kinds & {Kind.ACCEPTED, Kind.SETTLED}:

@@ -81,6 +81,12 @@ def button_label(choice: Choice, rooms: tuple[str, ...]) -> str:
         Action.PREFER: f"Rather {room}",
         Action.KEEP_EARLIER: "They still describe me: reuse",
         Action.ANSWER_AFRESH: "Ask me afresh",
+        Action.CHANGE_ANSWER: "I meant another room"
+        if choice.room is None
+        else f"Change answer {choice.room + 1}",
+        Action.CHANGE_TO: f"Make it {room}",
+        Action.KEEP_ANSWER: "My earlier answer was right",
+        Action.END_ROUND: "End the round (admin)",
     }[choice.action]
     return label if len(label) <= LABEL_LIMIT else label[: LABEL_LIMIT - 1] + "…"
 

@@ -97,7 +97,10 @@ def question(f: QuestionFacts, locale: str, *, reminder: bool) -> str:
     )
 
 
-WITHDRAWN_NOTE = "No longer needed: the round went on without this answer. Nothing to do."
+WITHDRAWN_NOTE = (
+    "No longer needed: the round went on without this answer, or a changed answer replaced "
+    "this question. Nothing to do."
+)
 
 
 def withdrawn_question(f: QuestionFacts, locale: str) -> str:
@@ -134,16 +137,24 @@ def prompt(f: PromptFacts, locale: str) -> str:
 
 
 def my_answers(f: MyAnswersFacts, locale: str) -> str:
-    how = {"answer": "you answered", "rule": "worked out", "repeat": "same prices as before"}
+    how = {
+        "answer": "you answered",
+        "rule": "worked out",
+        "repeat": "same prices as before",
+        "objection": "you asked to swap",
+        "answer-changed": "you changed it to this",
+        "set-aside": "no longer counts: changed, or its question was replaced",
+    }
     rows = []
-    for line in f.lines:
+    for number, line in enumerate(f.lines, start=1):
         prices = ", ".join(
             f"{room} {money(p, f.currency, f.decimals, locale)}"
             for room, p in zip(f.rooms, line.prices, strict=True)
         )
-        rows.append(f"• {line.room} at {prices} ({how.get(line.how, line.how)})")
+        rows.append(f"{number}. {line.room} at {prices} ({how.get(line.how, line.how)})")
     return (
         "Your answers in the latest round (only you see this):\n"
         + ("\n".join(rows) or "• none yet")
-        + f"\n{SHORT_CAUTION}"
+        + "\nPressed the wrong room? While the round is open, tap Change answer and the "
+        "number, and pick the room you meant.\n" + SHORT_CAUTION
     )

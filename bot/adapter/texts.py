@@ -12,6 +12,7 @@ from decimal import Decimal
 from babel import Locale, UnknownLocaleError
 from babel.numbers import format_currency
 
+from bot.adapter.change_texts import change_text, disagree_text, split_note
 from bot.adapter.private_texts import (
     WITHDRAWN_NOTE,
     earlier_offer,
@@ -26,6 +27,8 @@ from bot.rounds.agreement_document import when as agreement_time
 from bot.rounds.caution import CAUTION, SHORT_CAUTION
 from bot.rounds.messages import (
     AgreementFacts,
+    ChangeFacts,
+    DisagreeFacts,
     DivisionFacts,
     EarlierFacts,
     Kind,
@@ -37,6 +40,7 @@ from bot.rounds.messages import (
     RefusalFacts,
     RoughFacts,
     RoundFacts,
+    SplitNoteFacts,
     StatusFacts,
     WaitingFacts,
 )
@@ -47,24 +51,6 @@ from bot.rounds.phases import Phase
 TEXT_LIMIT = 4096
 #: Telegram Bot API: answerCallbackQuery text is 0-200 characters.
 CALLBACK_TEXT_LIMIT = 200
-
-HOW_IT_WORKS = (
-    "How it works: every way of splitting the rent between the rooms is a price list. In "
-    'each round I show all of you the same price list, privately, and ask: "at these prices, '
-    'which room would you take?" When you all pick different rooms, that price list is the '
-    "split: each of you chose your room at exactly those prices, so nobody would rather swap. "
-    "Otherwise I learn from your answers where to ask next. If that takes unusually long, I "
-    "switch to a walk across a grid of price lists, one question at a time, which a result "
-    "known as Sperner's lemma guarantees will end at a split where each of you gets the room "
-    "you chose.\n\n"
-    "This rests on two assumptions: you would take a free room rather than pay for another, "
-    "and a room never becomes less attractive by getting cheaper. To choose good questions I "
-    "also assume that money counts one-for-one for you; the split itself does not rely on "
-    "it.\n\n"
-    '"Within tolerance" (for a split found by the walk) means each of you chose your room at '
-    "prices at most the tolerance away from the final ones: if money counts one-for-one for "
-    "you, you would not pay more than the tolerance to swap with anyone."
-)
 
 
 def pick_locale(language_code: str | None, default: str = "en") -> str:
@@ -119,6 +105,12 @@ def render(message: Outgoing, locale: str, *, need_private_chat: tuple[str, ...]
     if isinstance(f, AgreementFacts):
         # Sent as files (agreement_files); as text only if sent like any other message.
         return markdown(f).text
+    if isinstance(f, ChangeFacts):
+        return change_text(f, message.kind, locale)
+    if isinstance(f, DisagreeFacts):
+        return disagree_text(f, locale)
+    if isinstance(f, SplitNoteFacts):
+        return split_note(f, message.kind)
     return round_text(f, message.kind, locale, need_private_chat)
 
 
@@ -204,6 +196,11 @@ def division(f: DivisionFacts, kind: Kind, locale: str) -> str:
             *lines,
             f"Total {cash(total)}, which {check} the rent of {cash(f.rent)}.",
             *why,
+            *(
+                ["Objections are used up in this round: agree, or an admin ends the round."]
+                if f.last_choice
+                else []
+            ),
             "",
             CAUTION,
         ]
@@ -352,7 +349,7 @@ COMMANDS: tuple[tuple[str, str], ...] = (
     ("begin", "Start the private questions once every room has a member"),
     ("status", "Where the round stands and who it is waiting for"),
     ("leave", "Leave the round before the questions start"),
-    ("myanswers", "Get your own answers, privately"),
+    ("myanswers", "Get your own answers, privately, and change one you misclicked"),
     ("nextround", "Ask the next round now with the answers in (admin)"),
     ("cancelround", "Stop the open round (admin)"),
     ("adjust", "Change the settings before the questions start (admin)"),
@@ -362,48 +359,3 @@ COMMANDS: tuple[tuple[str, str], ...] = (
     ("newrent", "The rent changed: re-price the last agreement, everyone confirms (admin)"),
     ("help", "What I do and how it works"),
 )
-
-
-#: One line per set-up option, said where the options are shown (``/help setup``).
-SETUP_HELP: tuple[tuple[str, str], ...] = (
-    ("tolerance 1.00", "the most anyone could still prefer a swap, in money (default 1.00)"),
-    (
-        "floor 0",
-        "the lowest price a room can get; below zero means the others pay you to take it",
-    ),
-    ("shared 300", "a part of the rent split evenly before the rooms are priced"),
-    ("per person 20", "a fixed amount each (bills, say) on top of the room"),
-    ("not let Box room", "a room kept out of the round (common space, storage)"),
-    ("empty rooms yes", "fewer members than rooms: the method decides which stay empty"),
-    ("one by one yes", "questions to one of you at a time instead of everyone at once"),
-)
-
-
-def help_text(topic: str = "") -> str:
-    """Short help for the person asking; ``/help setup`` for the admin's options, ``/help
-    how`` for how the method works."""
-    if topic.strip().casefold() == "how":
-        return f"{HOW_IT_WORKS}\n\n{CAUTION}"
-    if topic.strip().casefold() == "setup":
-        options = "\n".join(f"; {option} - {meaning}" for option, meaning in SETUP_HELP)
-        return (
-            "Setting up: /newround <rent with currency>; <rooms, separated by commas>, then "
-            "any of these, each after a semicolon:\n"
-            f"{options}\n"
-            "Example: /newround 1850.00 EUR; Loft, Attic, Bay room; tolerance 5\n"
-            "Before /begin, /adjust changes any of them, e.g. /adjust shared 300.\n"
-            "Later, when the total rent changes: /newrent 1900.00 re-prices the last agreement "
-            "(same people and rooms; the change spread equally over the rooms) and everyone "
-            "confirms it again. If someone moved out or in, use /changeover instead."
-        )
-    return (
-        "I help flatmates agree who takes which room and how the rent is split, so that "
-        "nobody would rather swap.\n"
-        "• Admin: /newround 1850.00 EUR; Loft, Attic, Bay room (options: /help setup), then "
-        "/begin once everyone is in.\n"
-        '• Everyone: tap "Count me in", open the private chat with me, answer each round\'s '
-        "question there, then agree to the split or ask to swap.\n"
-        "• /status shows where the round is; /myanswers sends you your own answers; "
-        "/help how explains the method.\n"
-        f"{SHORT_CAUTION}"
-    )

@@ -22,7 +22,8 @@ from rich.console import Console
 from rich.panel import Panel
 from rich.table import Table
 
-from bot.adapter.texts import HOW_IT_WORKS, money
+from bot.adapter.help_texts import HOW_IT_WORKS
+from bot.adapter.texts import money
 from bot.demo.flat import ADDRESS, CURRENCY, DECIMALS, FLATMATES, rooms_for
 from bot.demo.sandbox_round import DemoOptions, DemoResult, run_round
 from bot.demo.terminal_player import InputEnded

@@ -80,11 +80,17 @@ class Asked:
 
 @dataclass(frozen=True, slots=True)
 class Proposed:
-    """The suggested split in the group, with its agree and swap buttons."""
+    """The suggested split in the group, with its agree and swap buttons (no swap button
+    once objections are used up: then the choice is to agree, or wait for the admin)."""
 
     message: SimMessage
     agree: str
-    swap: str
+    swap: str | None
+
+
+#: What a :class:`Mind` may return from ``pick_room`` instead of a room: "I pressed the wrong
+#: room in my last answer" (the flatmate then uses that answer's "I meant another room").
+CHANGE_LAST = -1
 
 
 @dataclass(frozen=True, slots=True)
@@ -202,7 +208,7 @@ class Household:
             if not message.from_bot or (message.chat.id, message.message_id) in mate.seen:
                 continue
             agree, swap = self._button(message, Action.ACCEPT), self._button(message, Action.OBJECT)
-            if agree and swap:
+            if agree and (swap or self._button(message, Action.END_ROUND)):
                 return Proposed(message, agree, swap)
         return None
 
@@ -285,11 +291,18 @@ class Household:
         mate.seen.add((step.message.chat.id, step.message.message_id))
         if isinstance(step, Asked):
             room = await mate.mind.pick_room(mate.name, step)
+            if room == CHANGE_LAST:
+                mate.seen.discard((step.message.chat.id, step.message.message_id))
+                await self._change_last(mate)
+                return
             mate.answered += 1
             await self.press(mate, step.message, step.offered[room])
         elif isinstance(step, Proposed):
             mate.wants = await mate.mind.respond(mate.name, step)
-            await self.press(mate, step.message, step.agree if mate.wants is None else step.swap)
+            if step.swap is None:
+                mate.wants = None  # objections are used up: agree (or leave it to the admin)
+            swap = step.swap if mate.wants is not None else None
+            await self.press(mate, step.message, swap or step.agree)
         else:
             wanted = mate.wants
             mate.wants = None
@@ -300,6 +313,42 @@ class Household:
                     mate.name, Asked(step.message, prices, step.offered)
                 )
             await self.press(mate, step.message, step.offered[wanted])
+
+    async def _change_last(self, mate: Flatmate) -> None:
+        """Press "I meant another room" on the latest answer, then pick the room meant."""
+        world = self.standin.world
+        chat = world.private_chat_of(mate.user)
+        wrong_room = button_label(Choice(Action.CHANGE_ANSWER, "_"), self.rooms)
+        answered = [
+            (m, b.callback_data)
+            for m in world.messages_in(chat)
+            for row in m.buttons()
+            for b in row
+            if m.from_bot and b.text == wrong_room and b.callback_data
+        ]
+        if not answered:
+            return
+        message, data = answered[-1]
+        newest = world.messages_in(chat)[-1].message_id
+        await self.press(mate, message, data)
+
+        def prompt() -> SimMessage | None:
+            return next(
+                (
+                    m
+                    for m in world.messages_in(chat)
+                    if m.message_id > newest and self._buttons(m, Action.CHANGE_TO)
+                ),
+                None,
+            )
+
+        asked = await self.standin.wait_for(prompt, timeout=self.patience)
+        mate.seen.add((asked.chat.id, asked.message_id))
+        offered = self._buttons(asked, Action.CHANGE_TO)
+        prices = prices_shown(message.text or "", self.rooms, self.decimals, self.locale)
+        room = await mate.mind.pick_room(mate.name, Asked(asked, prices, offered))
+        if room in offered:
+            await self.press(mate, asked, offered[room])
 
     async def _live(self, mate: Flatmate) -> None:
         def look() -> Step | Stopped | None:

@@ -2,8 +2,9 @@
 
 Input is read line by line from standard input, in a worker thread so the bot and the other
 (simulated) flatmates carry on while you think; a pipe works as well as a keyboard. Each
-prompt lists the rooms with numbers and prices; you type a number. At the proposal you type
-``a`` to agree, or the number of the room you would rather have.
+prompt lists the rooms with numbers and prices; you type a number, or ``w`` ("I pressed the
+wrong room in my last answer", which changes that answer). At the proposal you type ``a`` to
+agree, or the number of the room you would rather have.
 """
 
 from __future__ import annotations
@@ -17,9 +18,11 @@ from typing import TextIO
 from rich.console import Console
 
 from bot.adapter.texts import money
-from bot.demo.flatmates import Asked, Proposed
+from bot.demo.flatmates import CHANGE_LAST, Asked, Proposed
 
 AGREE = "a"
+#: Typed instead of a room: "I pressed the wrong room in my last answer".
+WRONG = "w"
 
 
 class InputEnded(EOFError):
@@ -59,8 +62,12 @@ class TerminalPlayer:
         prompt = "\n".join(
             [f"Your turn, {name}. At these prices, which room would you take?", *lines]
         )
+        hint = f" (or '{WRONG}' if you pressed the wrong room in your last answer)"
         while True:
-            room = _room_number(await self._line(prompt + "\nType a room number:"), self.rooms)
+            typed = await self._line(prompt + f"\nType a room number{hint}:")
+            if typed.lower() == WRONG:
+                return CHANGE_LAST
+            room = _room_number(typed, self.rooms)
             if room in asked.offered:
                 return room
             self.console.print("That room is not on offer here; type one of the numbers shown.")

@@ -15,6 +15,7 @@ from __future__ import annotations
 import asyncio
 from dataclasses import replace
 
+from bot.rounds import question_ids, same_split
 from bot.rounds.agreement_records import record_agreement
 from bot.rounds.buttons import issue_choice
 from bot.rounds.context import Context
@@ -58,8 +59,14 @@ async def sync_search(ctx: Context, record: RoundRecord, search: AnySearch) -> N
         await _stop_at_limit(ctx, record, search)
         return
     for question in search.open_questions():
-        if await ctx.tx.question(record.id, question.id) is None:
+        same_id = await ctx.tx.question(record.id, question.id)
+        if same_id is None:  # the usual case: a new question under the search's own id
             await ask(ctx, record, search, question)
+        elif not (same_id.open and question_ids.same_question(same_id, question)):
+            stored = await ctx.tx.questions(record.id)  # after a change: ids are reused
+            if question_ids.stored_open(stored, question) is None:
+                qid = question_ids.fresh_id(stored, question.id)
+                await ask(ctx, record, search, question_ids.as_stored(question, qid))
     await withdraw_unneeded(ctx, record, search)
     proposal = search.proposal()
     current = await ctx.tx.round_by_id(record.id)
@@ -95,9 +102,9 @@ async def withdraw_unneeded(ctx: Context, record: RoundRecord, search: AnySearch
 
     The member's message loses its buttons, no reminder follows, and a late press is refused.
     """
-    still_open = {q.id for q in search.open_questions()}
+    still_open = search.open_questions()
     for stored in await ctx.tx.questions(record.id):
-        if stored.open and stored.qid not in still_open:
+        if stored.open and not any(question_ids.same_question(stored, q) for q in still_open):
             await ctx.tx.withdraw_question(record.id, stored.qid, ctx.now)
             await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER], ref=stored.qid)
             await ctx.audit(record.id, AuditKind.WITHDRAWN, stored.user_id, qid=stored.qid)
@@ -148,7 +155,10 @@ async def question_message(
 async def propose(
     ctx: Context, record: RoundRecord, proposal: Proposal, step: Step = Step.WALK_PROPOSED
 ) -> None:
-    """Announce a division to the group and open acceptance (``step``: how it came about)."""
+    """Announce a division to the group and open acceptance (``step``: how it came about;
+    never the same split twice)."""
+    if await same_split.came_back(ctx, record, proposal):
+        return
     number = record.proposal_no + 1
     phase = transition(record.phase, step)
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase, proposal_no=number)
@@ -171,11 +181,10 @@ async def propose(
             f"p{number}",
             ctx.now + ctx.config.reminder_after,
         )
-    choices = (
-        await issue_choice(ctx, record.id, Action.ACCEPT, str(number)),
-        await issue_choice(ctx, record.id, Action.OBJECT, str(number)),
-    )
+    choices = await same_split.vote_buttons(ctx, record, number)
     facts = division_facts(record, members, proposal, number)
+    if any(c.action is Action.END_ROUND for c in choices):
+        facts = replace(facts, last_choice=True)
     ctx.send(Outgoing(Recipient.group(record.group_id), Kind.PROPOSAL, facts, choices))
 
 
@@ -198,14 +207,15 @@ async def answer(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
         )
     if stored.withdrawn_at is not None:
         raise StaleAction(
-            "that question is no longer needed: the others' answers led elsewhere; nothing changed"
+            "that question was replaced or is no longer needed (answers led elsewhere or an "
+            "answer was changed); nothing was stored. Answer your latest question"
         )
     if record.phase is not Phase.ASKING:
         raise StaleAction("this round is no longer asking questions; nothing changed")
     search = ctx.search(record)
     before = len(records_of(search))
     try:
-        await asyncio.to_thread(search.answer, qid, room)
+        await asyncio.to_thread(search.answer, question_ids.search_id(qid), room)
     except (InvalidAnswer, InvalidState) as exc:
         raise StaleAction(f"that answer cannot be used: {exc}") from exc
     await ctx.tx.record_answer(record.id, qid, room, ctx.now)
@@ -214,7 +224,8 @@ async def answer(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
         record.id, AuditKind.ANSWER, actor.user_id, qid=qid, prices=stored.prices, room=room
     )
     await log_inferred(ctx, record, search, since=before + 1)
-    ctx.send(_progress(record, search, actor, room, qid))
+    wrong_room = await issue_choice(ctx, record.id, Action.CHANGE_ANSWER, qid)
+    ctx.send(replace(_progress(record, search, actor, room, qid), choices=(wrong_room,)))
     await sync_search(ctx, record, search)
 
 
@@ -321,6 +332,11 @@ async def begin_objection(ctx: Context, record: RoundRecord, actor: Actor, ref: 
     proposal = _current_proposal(record, ref, ctx.search(record))
     if me.accepted_at is not None:
         raise StaleAction("you have already accepted this proposal; it can no longer be objected")
+    if await same_split.last_choice_due(ctx, record):
+        raise StaleAction(
+            "objections are used up for this round: agree to the split, or an admin ends the "
+            "round with the End button or /cancel"
+        )
     own = proposal.assignment[str(actor.user_id)]
     choices = tuple(
         [

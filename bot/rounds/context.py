@@ -39,6 +39,11 @@ class EngineConfig:
     #: A round that would ask anyone more questions than this stops, with a clear message to
     #: the group, instead of going on without bound (a 10-room walk can take hundreds).
     max_questions_per_member: int = 150
+    #: Objections that end (:mod:`bot.rounds.same_split`): after this many objections led
+    #: back to a split the group had already seen, or after this many objections in all, the
+    #: group gets its last choice (agree to the split, or an admin ends the round).
+    fruitless_objections: int = 2
+    objection_limit: int = 4
     #: only the group chat's admins may start a round (``/newround``, ``/again``, ``/changeover``)
     only_admins_start: bool = False
     #: retention (:mod:`bot.rounds.retention`): days a finished round's answers are kept,

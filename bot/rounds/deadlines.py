@@ -12,9 +12,11 @@ from bot.rounds.asking import question_message
 from bot.rounds.buttons import issue_choice
 from bot.rounds.context import Context
 from bot.rounds.message_facts import division_facts, round_facts
-from bot.rounds.messages import Action, Kind, Outgoing, Recipient, WaitingFacts
+from bot.rounds.messages import Action, Choice, Kind, Outgoing, Recipient, WaitingFacts
 from bot.rounds.phases import Phase, Step, transition
+from bot.rounds.question_ids import as_stored, search_id
 from bot.rounds.records import AuditKind, RoundRecord, TimerKind, TimerRecord
+from bot.rounds.same_split import last_choice_due
 
 
 async def fire_due(ctx: Context) -> None:
@@ -42,8 +44,9 @@ async def _remind(ctx: Context, record: RoundRecord, timer: TimerRecord) -> None
         return
     search = ctx.search(record)
     for question in search.open_questions():
-        if question.id == timer.ref and int(question.member) == timer.user_id:
-            ctx.send(await question_message(ctx, record, search, question, Kind.REMINDER))
+        if question.id == search_id(timer.ref) and int(question.member) == timer.user_id:
+            shown = as_stored(question, timer.ref)
+            ctx.send(await question_message(ctx, record, search, shown, Kind.REMINDER))
             await ctx.audit(record.id, AuditKind.REMINDED, timer.user_id, qid=question.id)
 
 
@@ -54,10 +57,9 @@ async def _remind_to_vote(ctx: Context, record: RoundRecord, user_id: int, ref: 
     if any(m.user_id == user_id and m.accepted_at is None for m in members):
         proposal = ctx.search(record).proposal()
         assert proposal is not None
-        choices = (
-            await issue_choice(ctx, record.id, Action.ACCEPT, ref),
-            await issue_choice(ctx, record.id, Action.OBJECT, ref),
-        )
+        choices: tuple[Choice, ...] = (await issue_choice(ctx, record.id, Action.ACCEPT, ref),)
+        if not await last_choice_due(ctx, record):  # objections used up: agree, or wait
+            choices += (await issue_choice(ctx, record.id, Action.OBJECT, ref),)
         facts = division_facts(record, members, proposal, record.proposal_no)
         ctx.send(Outgoing(Recipient.person(user_id), Kind.REMINDER, facts, choices))
         await ctx.audit(record.id, AuditKind.REMINDED, user_id, proposal_no=ref)

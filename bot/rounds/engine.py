@@ -16,22 +16,23 @@ an engine built afresh on the same database continues exactly where the old one 
 
 from __future__ import annotations
 
-import json
-
 from bot.rounds import (
     agreement_records,
     answer_reuse,
     asking,
+    corrections,
     deadlines,
     group_moves,
     lifecycle,
+    my_answers,
+    objections,
     rent_change,
     retention,
     rough_values,
 )
 from bot.rounds.clock import Clock
 from bot.rounds.context import BoundedSearchCache, Context, EngineConfig
-from bot.rounds.errors import NotAllowed, Refusal, StaleAction
+from bot.rounds.errors import Refusal, StaleAction
 from bot.rounds.events import (
     Actor,
     BeginAsking,
@@ -53,17 +54,14 @@ from bot.rounds.events import (
 from bot.rounds.messages import (
     Action,
     AgreementFacts,
-    AnswerLine,
     Kind,
-    MyAnswersFacts,
     Outgoing,
     Recipient,
     RefusalFacts,
     StatusFacts,
 )
 from bot.rounds.outbox_codec import encode
-from bot.rounds.permissions import require_member
-from bot.rounds.records import OWN_ANSWER_KINDS, TimerRecord
+from bot.rounds.records import TimerRecord
 from bot.rounds.retrying import retry_transient
 from bot.rounds.round_settings import RoundSettings
 from bot.rounds.searches import AnySearch
@@ -195,7 +193,7 @@ async def _dispatch(ctx: Context, event: Event) -> None:
     elif isinstance(event, Press):
         await _press(ctx, event)
     elif isinstance(event, ShowMyAnswers):
-        await _show_my_answers(ctx, event.group_id, event.actor)
+        await my_answers.show(ctx, event.group_id, event.actor)
     elif isinstance(event, MoveGroup):
         await group_moves.move_group(ctx, event)
     elif isinstance(event, ChangeRent):
@@ -234,6 +232,15 @@ async def _press(ctx: Context, event: Press) -> None:
         await asking.accept(ctx, record, event.actor, token.ref)
     elif token.action is Action.OBJECT:
         await asking.begin_objection(ctx, record, event.actor, token.ref)
+    elif token.action is Action.CHANGE_ANSWER:
+        await corrections.offer(ctx, record, event.actor, token.ref)
+    elif token.action is Action.CHANGE_TO:
+        assert token.room is not None
+        await corrections.change(ctx, record, event.actor, token.ref, token.room)
+    elif token.action is Action.KEEP_ANSWER:
+        await objections.keep_answer(ctx, record, event.actor, token.ref)
+    elif token.action is Action.END_ROUND:
+        await objections.end_round(ctx, record, event.actor, token.ref)
     elif token.action in (Action.KEEP_EARLIER, Action.ANSWER_AFRESH):
         keep = token.action is Action.KEEP_EARLIER
         await answer_reuse.choose(ctx, record, event.actor, token.ref, keep)
@@ -243,31 +250,6 @@ async def _press(ctx: Context, event: Press) -> None:
     else:
         assert token.room is not None
         await asking.object_with_room(ctx, record, event.actor, token.ref, token.room)
-
-
-async def _show_my_answers(ctx: Context, group_id: int, actor: Actor) -> None:
-    """Only the member's own answers, only to that member, from the group's latest round."""
-    record = await ctx.tx.latest_round(group_id)
-    if record is None:
-        raise NotAllowed("this group has no round yet, so you have no answers to see")
-    require_member(await ctx.tx.members(record.id), actor)
-    if record.forgotten_at is not None:
-        raise NotAllowed(
-            "your answers in this group's last round were deleted: answers are kept for "
-            f"{ctx.config.keep_answers_days} days after a round ends. Its agreement is kept; "
-            "see /agreements"
-        )
-    lines = []
-    for entry in await ctx.tx.audit_of(record.id, actor.user_id):
-        if entry.kind in OWN_ANSWER_KINDS:
-            detail = json.loads(entry.detail)
-            room = record.settings.rooms[int(detail["room"])]
-            how = str(detail.get("how", entry.kind))
-            prices = tuple(int(p) for p in detail["prices"])
-            lines.append(AnswerLine(entry.at, prices, room, how))
-    s = record.settings
-    facts = MyAnswersFacts(record.id, s.currency, s.decimals, s.rooms, tuple(lines))
-    ctx.send(Outgoing(Recipient.person(actor.user_id), Kind.MY_ANSWERS, facts))
 
 
 def _refusal_message(event: Event, refusal: Refusal) -> Outgoing:

@@ -12,6 +12,7 @@ from collections import Counter, defaultdict
 from typing import Any
 
 from bot.rounds.phases import ENDED_PHASES, OPEN_PHASES, Phase
+from bot.rounds.question_ids import search_id
 from bot.rounds.round_settings import RoundSettings
 from bot.rounds.searches import AnySearch, load, records_of
 from solver import BrokenInvariant
@@ -102,7 +103,7 @@ def _check_questions(
     round_id: int, search: AnySearch, questions: list[tuple[Any, ...]], rent: int | None
 ) -> None:
     open_ids = {q.id for q in search.open_questions()}
-    stored_open = {q[1] for q in questions if q[7] is None and q[9] is None}
+    stored_open = {search_id(q[1]) for q in questions if q[7] is None and q[9] is None}
     _require(
         stored_open <= open_ids,
         f"round {round_id}: stored open questions {stored_open} not open in the search {open_ids}",
@@ -117,7 +118,9 @@ def _check_questions(
     # Every stored answer is an answer the search holds, and the other way round: who, at
     # which prices, which room (a multiset: the same question may come back in a later round).
     stored = Counter(
-        (str(q[2]), tuple(json.loads(q[3])), q[8]) for q in questions if q[7] is not None
+        (str(q[2]), tuple(json.loads(q[3])), q[8])
+        for q in questions
+        if q[7] is not None and q[9] is None  # answered, not set aside by a correction
     )
     held = Counter((r.member, r.prices, r.room) for r in records_of(search) if r.source == "asked")
     _require(

@@ -57,6 +57,14 @@ class Kind(Enum):
     STOPPED_AT_LIMIT = "stopped-at-limit"
     ROUGH_INVITE = "rough-invite"
     ROUGH_NOTED = "rough-noted"
+    CHANGE_PROMPT = "change-prompt"
+    ANSWER_CHANGED = "answer-changed"
+    ANSWERS_SET_ASIDE = "answers-set-aside"
+    SPLIT_WITHDRAWN = "split-withdrawn"
+    SAME_SPLIT = "same-split"
+    ANSWERS_DISAGREE = "answers-disagree"
+    LAST_CHOICE = "last-choice"
+    ANSWER_KEPT = "answer-kept"
 
 
 class Action(Enum):
@@ -69,6 +77,15 @@ class Action(Enum):
     PREFER = "prefer"
     KEEP_EARLIER = "keep-earlier"
     ANSWER_AFRESH = "answer-afresh"
+    #: pick one of your answers to change (``ref``: the stored question; ``room`` carries
+    #: the answer's line number in the list, for the button's label)
+    CHANGE_ANSWER = "change-answer"
+    #: the room the answer should have been (``ref``: the stored question)
+    CHANGE_TO = "change-to"
+    #: your earlier answer was right; the objection is set aside (``ref``: proposal number)
+    KEEP_ANSWER = "keep-answer"
+    #: an admin ends the round after the last choice (``ref``: proposal number)
+    END_ROUND = "end-round"
 
 
 @dataclass(frozen=True, slots=True)
@@ -174,6 +191,8 @@ class DivisionFacts:
     #: A rent change: the earlier agreement's total, whose split these prices re-price by
     #: spreading the change equally over the let rooms (None for a split found by questions).
     previous_rent: int | None = None
+    #: Objections are used up: agree, or an admin ends the round (no objection button).
+    last_choice: bool = False
 
 
 @dataclass(frozen=True, slots=True)
@@ -284,6 +303,55 @@ class RoughFacts:
 
 
 @dataclass(frozen=True, slots=True)
+class ChangeFacts:
+    """A member changes one of their answers: the prompt (``new_room`` None) or the result.
+
+    ``set_aside`` counts later answers (anyone's) whose question no longer exists after the
+    change: they are kept in the log but no longer used, and their questions are asked anew
+    where still needed; ``objections_set_aside`` the same for objections.
+    """
+
+    round_id: int
+    rooms: tuple[str, ...]
+    currency: str
+    decimals: int
+    prices: tuple[int, ...]
+    old_room: int
+    new_room: int | None = None
+    set_aside: int = 0
+    objections_set_aside: int = 0
+
+
+@dataclass(frozen=True, slots=True)
+class DisagreeFacts:
+    """Private, to an objector whose objection led back to the same split: two answers
+    side by side, "at these prices you took A; at (almost) the same prices you now prefer B"."""
+
+    round_id: int
+    proposal_no: int
+    rooms: tuple[str, ...]
+    currency: str
+    decimals: int
+    took_prices: tuple[int, ...]
+    took_room: int
+    prefer_prices: tuple[int, ...]
+    prefer_room: int
+    #: the earlier answer can be changed (it was a question you answered)
+    changeable: bool
+
+
+@dataclass(frozen=True, slots=True)
+class SplitNoteFacts:
+    """For the group: the split came back unchanged, was withdrawn, or this is the last choice."""
+
+    round_id: int
+    proposal_no: int
+    same_as: int | None = None
+    objections: int = 0
+    objection_limit: int = 0
+
+
+@dataclass(frozen=True, slots=True)
 class RefusalFacts:
     """Why a request was refused and what to do instead."""
 
@@ -303,6 +371,9 @@ Facts = (
     | EarlierFacts
     | AgreementFacts
     | RoughFacts
+    | ChangeFacts
+    | DisagreeFacts
+    | SplitNoteFacts
 )
 
 

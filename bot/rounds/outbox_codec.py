@@ -17,7 +17,9 @@ from bot.rounds.messages import (
     AgreementFacts,
     AgreementLine,
     AnswerLine,
+    ChangeFacts,
     Choice,
+    DisagreeFacts,
     DivisionFacts,
     DivisionLine,
     EarlierFacts,
@@ -32,6 +34,7 @@ from bot.rounds.messages import (
     RefusalFacts,
     RoughFacts,
     RoundFacts,
+    SplitNoteFacts,
     WaitingFacts,
 )
 
@@ -50,6 +53,9 @@ _FACT_TYPES: dict[str, type[Any]] = {
         EarlierFacts,
         AgreementFacts,
         RoughFacts,
+        ChangeFacts,
+        DisagreeFacts,
+        SplitNoteFacts,
     )
 }
 #: Facts whose ``lines`` field holds nested records.

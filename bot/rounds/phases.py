@@ -6,6 +6,7 @@
     [drafting] --------------> [gathering] ------------> [asking] -------------> [proposed]
         |                          |                      ^   |                    |   |
         |                          |                      |   |   objection-upheld |   |
+        |                          |                      |   |   answer-changed   |   |
         |                          |                      |   +<-------------------+   |
         |                          |                      |                            |
         +------ cancel ------------+------ cancel --------+------ cancel --------------+
@@ -80,6 +81,7 @@ class Step(Enum):
     BEGIN_ASKING = "begin-asking"
     WALK_PROPOSED = "walk-proposed"
     OBJECTION_UPHELD = "objection-upheld"
+    ANSWER_CHANGED = "answer-changed"
     ALL_ACCEPTED = "all-accepted"
     CANCEL = "cancel"
     DEADLINE_PASSED = "deadline-passed"
@@ -97,6 +99,7 @@ _EDGES: dict[tuple[Phase, Step], Phase] = {
     (Phase.GATHERING, Step.BEGIN_ASKING): Phase.ASKING,
     (Phase.ASKING, Step.WALK_PROPOSED): Phase.PROPOSED,
     (Phase.PROPOSED, Step.OBJECTION_UPHELD): Phase.ASKING,
+    (Phase.PROPOSED, Step.ANSWER_CHANGED): Phase.ASKING,
     (Phase.PROPOSED, Step.ALL_ACCEPTED): Phase.SETTLED,
     (Phase.DRAFTING, Step.RENT_CHANGED): Phase.PROPOSED,
 }

@@ -129,10 +129,20 @@ class AuditKind:
     ROUND_CLOSED = "round-closed"
     ROUGH_VALUES = "rough-values"
     STOPPED_AT_LIMIT = "stopped-at-limit"
+    ANSWER_CHANGED = "answer-changed"
+    ANSWER_SET_ASIDE = "answer-set-aside"
+    SAME_SPLIT = "same-split"
+    ANSWER_KEPT = "answer-kept"
+    LAST_CHOICE = "last-choice"
 
 
 #: The audit kinds that are a member's own answers (shown to that member only).
-OWN_ANSWER_KINDS = (AuditKind.ANSWER, AuditKind.INFERRED, AuditKind.OBJECTION)
+OWN_ANSWER_KINDS = (
+    AuditKind.ANSWER,
+    AuditKind.INFERRED,
+    AuditKind.OBJECTION,
+    AuditKind.ANSWER_CHANGED,
+)
 #: Audit kinds that carry or point at private answers, deleted with a finished round's
 #: answers (:mod:`bot.rounds.retention`); what the group saw (created, joined, proposals,
 #: acceptances, the agreement, cancellation) stays.
@@ -145,6 +155,9 @@ PRIVATE_AUDIT_KINDS = (
     AuditKind.EARLIER_CHOICE,
     AuditKind.WITHDRAWN,
     AuditKind.REMINDED,
+    AuditKind.ANSWER_CHANGED,
+    AuditKind.ANSWER_SET_ASIDE,
+    AuditKind.ANSWER_KEPT,
 )
 
 

@@ -18,7 +18,11 @@ async def status_of(ctx: Context, record: RoundRecord) -> StatusFacts:
     """Count answered questions and name who the round waits for in its current phase."""
     members = await ctx.tx.members(record.id)
     names = {m.user_id: m.display_name for m in members}
-    answered = sum(1 for q in await ctx.tx.questions(record.id) if q.answered_at is not None)
+    answered = sum(
+        1
+        for q in await ctx.tx.questions(record.id)
+        if q.answered_at is not None and q.withdrawn_at is None
+    )
     waiting: list[int] = []
     round_number = expected = None
     if record.phase is Phase.ASKING:

@@ -280,6 +280,14 @@ class SqlTransaction(LaterQueries, RetentionQueries):
             (at, round_id, qid),
         )
 
+    async def retract_answer(self, round_id: int, qid: str, at: int) -> None:
+        """An answered question the search no longer holds (a correction): kept, marked."""
+        await self._run(
+            "UPDATE questions SET withdrawn_at = ? WHERE round_id = ? AND qid = ? "
+            "AND answered_at IS NOT NULL AND withdrawn_at IS NULL",
+            (at, round_id, qid),
+        )
+
     # ----------------------------------------------------------------- tokens
 
     async def put_token(self, token: TokenRecord) -> None:
@@ -312,6 +320,15 @@ class SqlTransaction(LaterQueries, RetentionQueries):
             "SELECT id, round_id, at, kind, user_id, detail FROM audit "
             "WHERE round_id = ? AND user_id = ? ORDER BY id",
             (round_id, user_id),
+        )
+        return [AuditRecord(*row) for row in rows]
+
+    async def audit_kinds(self, round_id: int, kinds: Sequence[str]) -> list[AuditRecord]:
+        marks = ", ".join("?" for _ in kinds)
+        rows = await self._all(
+            "SELECT id, round_id, at, kind, user_id, detail FROM audit "
+            f"WHERE round_id = ? AND kind IN ({marks}) ORDER BY id",
+            (round_id, *kinds),
         )
         return [AuditRecord(*row) for row in rows]
 

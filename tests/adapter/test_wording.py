@@ -12,7 +12,7 @@ from dataclasses import replace
 
 import pytest
 
-from bot.adapter import texts
+from bot.adapter import help_texts, texts
 from bot.rounds.caution import CAUTION, SHORT_CAUTION
 from bot.rounds.messages import (
     AgreementFacts,
@@ -116,12 +116,13 @@ def test_the_live_status_keeps_what_the_start_of_asking_said(phase: Phase) -> No
 def test_help_is_short_and_setup_explains_every_option_in_one_line() -> None:
     from bot.rounds.setup_input import SETUP_OPTIONS
 
-    short = texts.help_text()
+    short = help_texts.help_text()
     assert len(short.splitlines()) <= 6 and "/help setup" in short and SHORT_CAUTION in short
-    setup = texts.help_text("setup")
+    setup = help_texts.help_text("setup")
     for option in SETUP_OPTIONS:
         line = next((ln for ln in setup.splitlines() if ln.startswith(f"; {option} ")), None)
         assert line is not None, option
         assert " - " in line  # the option, then what it means
     assert "below zero means the others pay you" in setup
-    assert "two assumptions" in texts.help_text("how") and CAUTION in texts.help_text("how")
+    how = help_texts.help_text("how")
+    assert "two assumptions" in how and CAUTION in how

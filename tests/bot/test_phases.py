@@ -16,6 +16,7 @@ EXPECTED = {
     (Phase.GATHERING, Step.BEGIN_ASKING): Phase.ASKING,
     (Phase.ASKING, Step.WALK_PROPOSED): Phase.PROPOSED,
     (Phase.PROPOSED, Step.OBJECTION_UPHELD): Phase.ASKING,
+    (Phase.PROPOSED, Step.ANSWER_CHANGED): Phase.ASKING,
     (Phase.PROPOSED, Step.ALL_ACCEPTED): Phase.SETTLED,
     # [settled] --rent change--> a new round: drafting, then at once proposed (re-priced split)
     (Phase.DRAFTING, Step.RENT_CHANGED): Phase.PROPOSED,
