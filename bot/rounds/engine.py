@@ -159,7 +159,7 @@ class Engine:
             if record is None or record.walk_json is None:
                 return None
             ctx = Context(tx, self._clock(), self._config, self._searches)
-            search = ctx.search(record)
+            search = await ctx.search(record)
         self._searches.keep(ctx.searches, set())
         return search, record.settings
 
