@@ -97,8 +97,8 @@ async def withdraw_unneeded(ctx: Context, record: RoundRecord, search: AnySearch
     The member's message loses its buttons, no reminder follows, and a late press is refused.
     """
     still_open = {q.id for q in search.open_questions()}
-    for stored in await ctx.tx.questions(record.id):
-        if stored.open and stored.qid not in still_open:
+    for stored in await ctx.tx.open_questions(record.id):
+        if stored.qid not in still_open:
             await ctx.tx.withdraw_question(record.id, stored.qid, ctx.now)
             await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER], ref=stored.qid)
             await ctx.audit(record.id, AuditKind.WITHDRAWN, stored.user_id, qid=stored.qid)

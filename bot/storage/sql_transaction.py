@@ -270,6 +270,16 @@ class SqlTransaction(LaterQueries, RetentionQueries, SearchStepQueries):
         )
         return sorted(map(_question, rows), key=lambda q: (q.asked_at, _asked_order(q.qid)))
 
+    async def open_questions(self, round_id: int) -> list[QuestionRecord]:
+        """The round's questions still waiting for an answer, in the order they were asked:
+        read on every answer, so it never decodes the hundreds a long walk has answered."""
+        rows = await self._all(
+            f"SELECT {_QUESTION_COLUMNS} FROM questions WHERE round_id = ? "
+            "AND answered_at IS NULL AND withdrawn_at IS NULL",
+            (round_id,),
+        )
+        return sorted(map(_question, rows), key=lambda q: (q.asked_at, _asked_order(q.qid)))
+
     async def record_answer(self, round_id: int, qid: str, room: int, at: int) -> None:
         await self._run(
             "UPDATE questions SET room = ?, answered_at = ? WHERE round_id = ? AND qid = ? "
