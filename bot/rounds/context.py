@@ -27,7 +27,7 @@ from bot.rounds.search_steps import (
     replay,
     snapshot_due,
 )
-from bot.rounds.searches import AnySearch
+from bot.rounds.searches import AnySearch, round_of
 from bot.rounds.store_port import Transaction
 from solver import BrokenInvariant
 
@@ -77,6 +77,8 @@ class HeldSearch:
     unsaved: list[SearchStep] = field(default_factory=list)
     #: never stored: the next save writes a snapshot
     fresh: bool = False
+    #: the round of questions when the snapshot was taken (or the search loaded)
+    snapshot_round: int | None = None
 
 
 SearchCache = dict[int, HeldSearch]
@@ -143,7 +145,9 @@ class Context:
         else:
             search = replay(record.id, snapshot, ())
         size = sum(len(step) for step in steps)
-        return HeldSearch(record.walk_rev, search, len(steps), size, len(snapshot))
+        held = HeldSearch(record.walk_rev, search, len(steps), size, len(snapshot))
+        held.snapshot_round = round_of(search)
+        return held
 
     def hold_new_search(self, record: RoundRecord, search: AnySearch) -> None:
         """A search just started for ``record``: the next save stores it whole."""
@@ -170,14 +174,17 @@ class Context:
             return
         steps = held.steps + len(texts)
         step_bytes = held.step_bytes + sum(len(text) for text in texts)
-        limit = self.config.snapshot_every
         due = snapshot_due(
-            steps=steps, step_bytes=step_bytes, snapshot_bytes=held.snapshot_bytes, limit=limit
+            steps=steps,
+            step_bytes=step_bytes,
+            snapshot_bytes=held.snapshot_bytes,
+            limit=self.config.snapshot_every,
+            new_round=round_of(search) != held.snapshot_round,
         )
         if held.fresh or due:
             snapshot = search.to_json()
             await self.tx.update_round(round_id, at=self.now, walk_json=snapshot)
-            held.rev, held.fresh = held.rev + 1, False
+            held.rev, held.fresh, held.snapshot_round = held.rev + 1, False, round_of(search)
             held.steps, held.step_bytes, held.snapshot_bytes = 0, 0, len(snapshot)
             return
         for text in texts:

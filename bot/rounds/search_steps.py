@@ -5,9 +5,10 @@ the store keeps the search's JSON (``rounds.walk``, the *snapshot*) and, after i
 calls the bot made (``search_steps``, one small row per call): an answer, a closed round, an
 objection. Loading resumes the snapshot and applies the steps again. Each answer therefore
 writes one row of a few dozen bytes, in the transaction that records the answer, instead of
-the whole search (106 KiB late in an 838-answer walk at 10 rooms). Every so often the
-snapshot is rewritten and the steps it covers are deleted in the same transaction
-(:func:`snapshot_due`), so a load never replays more than a bounded number of steps.
+the whole search (106 KiB late in an 838-answer walk at 10 rooms). Every so often (at least
+every :data:`SNAPSHOT_EVERY` steps, and at each new round of questions) the snapshot is
+rewritten and the steps it covers are deleted in the same transaction (:func:`snapshot_due`),
+so a load never replays more than a bounded number of steps.
 
 Every call that changes a stored search must go through :meth:`Context.step
 <bot.rounds.context.Context.step>`; a change made any other way would be lost at the next
@@ -26,9 +27,10 @@ from bot.rounds.searches import AnySearch, load
 from bot.rounds.store_port import Transaction
 from solver import InvalidAnswer, InvalidState, ParallelSearch
 
-#: At most this many steps after a snapshot (measured with ``python -m bot.bench.long_round
-#: --snapshot-every``: at 64 a 10-room walk's late snapshot, about 270 KB, costs about 4 KB
-#: per answer amortised, and a load replays at most 64 steps, about 45 ms for the walk).
+#: At most this many steps after a snapshot. Measured on a 2134-answer 10-room walk
+#: (``python -m bot.bench.long_round --rooms 10 --seed 3 --snapshot-every N``, answers
+#: 1001-2134): N=16 hands SQL 12.9 KiB per answer on average, N=64 4.4 KiB, N=256 2.4 KiB;
+#: loading into a fresh engine takes 93, 91 and 328 ms.
 SNAPSHOT_EVERY = 64
 
 
@@ -106,11 +108,15 @@ def replay(round_id: int, snapshot: str, steps: Sequence[str]) -> AnySearch:
     return search
 
 
-def snapshot_due(*, steps: int, step_bytes: int, snapshot_bytes: int, limit: int) -> bool:
+def snapshot_due(
+    *, steps: int, step_bytes: int, snapshot_bytes: int, limit: int, new_round: bool
+) -> bool:
     """Rewrite the snapshot instead of appending? Once the steps after it would number more
-    than ``limit`` (a load replays them all) or outweigh the snapshot itself (a small early
-    search is cheaper to store whole)."""
-    return steps > limit or step_bytes > snapshot_bytes
+    than ``limit`` (a load replays them all), or outweigh the snapshot itself (a small early
+    search is cheaper to store whole), or a new round of questions began: between rounds the
+    parallel search learns (linear programmes), which its JSON keeps but a replay would redo
+    (measured: a 10-room load took 156 ms replaying rounds, 5 ms from a per-round snapshot)."""
+    return new_round or steps > limit or step_bytes > snapshot_bytes
 
 
 async def stored_search(tx: Transaction, record: RoundRecord) -> AnySearch | None:

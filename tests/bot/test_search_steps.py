@@ -298,3 +298,20 @@ async def test_a_database_from_before_migration_8_with_a_whole_search_carries_on
     assert [(x.user_id, x.room_index, x.price) for x in facts.lines] == [
         (x.user_id, x.room_index, x.price) for x in expected.lines
     ]
+
+
+async def test_rounds_of_questions_take_a_snapshot_at_each_new_round(
+    engine: Engine, store: AnyStore
+) -> None:
+    """A load then never replays the learning between rounds, only this round's answers."""
+    members = people(4)
+    most = 0
+
+    async def note(_: Rehearsal, __: Event, ___: list[Outgoing]) -> None:
+        nonlocal most
+        most = max(most, len((await store.dump())["search_steps"]))
+
+    play = Rehearsal(engine, GROUP, members[0], members, tenants_for(members, 3), after_step=note)
+    await play.play(await play.set_up(RENT_TEXT, ROOMS[:4]))
+    assert play.answers > 2 * len(members)  # several rounds
+    assert 0 < most < len(members)  # the answer that ends a round stores the search whole
