@@ -39,7 +39,8 @@ from bot.demo.standin_settings import settings_for
 from bot.demo.terminal_player import TerminalPlayer
 from bot.rounds.messages import StatusFacts
 from bot.rounds.phases import Phase
-from bot.rounds.searches import AnySearch, load
+from bot.rounds.search_steps import stored_search
+from bot.rounds.searches import AnySearch
 from bot.sandbox import BotApiStandIn, SimChat, SimMessage
 from solver.money import format_minor
 from solver.simulate import Model, Tenant
@@ -350,9 +351,7 @@ async def _stored_walk(runtime: Runtime, group_id: int) -> AnySearch | None:
     """The search of the group's latest round, as the bot stored it."""
     async with runtime.store.transaction() as tx:
         record = await tx.latest_round(group_id)
-    if record is None or record.walk_json is None:
-        return None
-    return load(record.id, record.walk_json)
+        return None if record is None else await stored_search(tx, record)
 
 
 async def _questions_shown(runtime: Runtime, group_id: int) -> dict[int, int]:

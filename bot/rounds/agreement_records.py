@@ -16,7 +16,7 @@ from bot.rounds.message_facts import agreement_facts
 from bot.rounds.messages import AgreementFacts
 from bot.rounds.outbox_codec import decode_facts, encode_facts
 from bot.rounds.records import RoundRecord
-from bot.rounds.searches import load
+from bot.rounds.search_steps import stored_search
 from bot.rounds.store_port import Transaction
 
 
@@ -43,9 +43,8 @@ async def history(tx: Transaction, group_id: int) -> list[AgreementFacts]:
 
 async def worked_out(tx: Transaction, record: RoundRecord) -> AgreementFacts | None:
     """A settled round's written agreement from its walk (rounds from before migration 7)."""
-    if record.walk_json is None:
-        return None
-    proposal = load(record.id, record.walk_json).proposal()
+    search = await stored_search(tx, record)
+    proposal = None if search is None else search.proposal()
     if proposal is None:
         return None
     return agreement_facts(record, await tx.members(record.id), proposal)

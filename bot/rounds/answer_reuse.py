@@ -21,7 +21,8 @@ from bot.rounds.messages import Action, EarlierFacts, Kind, Outgoing, Recipient
 from bot.rounds.permissions import require_member
 from bot.rounds.phases import Phase
 from bot.rounds.records import AuditKind, MemberRecord, RoundRecord
-from bot.rounds.searches import load, records_of
+from bot.rounds.search_steps import stored_search
+from bot.rounds.searches import records_of
 
 #: Records that are the member's own statements (not worked out by the search).
 OWN_SOURCES = ("asked", "objection", "earlier")
@@ -95,7 +96,10 @@ async def plan(ctx: Context, record: RoundRecord, members: Sequence[MemberRecord
     mapping = None if previous is None else room_map(previous.settings.rooms, record.settings.rooms)
     if previous is None or mapping is None or previous.walk_json is None:
         return Reuse({}, (), ())
-    old_records = records_of(load(previous.id, previous.walk_json))
+    old_search = await stored_search(ctx.tx, previous)
+    if old_search is None:
+        return Reuse({}, (), ())
+    old_records = records_of(old_search)
     stayed = {m.user_id for m in await ctx.tx.members(previous.id)}
     choices = await ctx.tx.earlier_choices(record.id)
     earlier: dict[str, Answers] = {}

@@ -1,18 +1,18 @@
 """Driving a round's search: questions out, answers in, proposals, acceptances, objections.
 
 Every function runs inside the event's transaction. The order inside each is the order that
-keeps storage consistent: the search moves, its JSON and the answer are written together, and
-only then are the messages that announce them queued. With the parallel search a whole round
+keeps storage consistent: the search moves, its step (or a new snapshot,
+:mod:`bot.rounds.search_steps`) and the answer are written together, and only then are the
+messages that announce them queued. With the parallel search a whole round
 of questions goes out at once (one per member); with the search, one question at a time.
 
 The search's numerics (learning between rounds, linear programmes) run in a worker thread
-(:func:`asyncio.to_thread`), so a heavy step never stalls the event loop that answers other
-groups' button presses.
+(:meth:`Context.step <bot.rounds.context.Context.step>`), so a heavy step never stalls the
+event loop that answers other groups' button presses.
 """
 
 from __future__ import annotations
 
-import asyncio
 from dataclasses import replace
 
 from bot.rounds import question_ids, same_split
@@ -39,6 +39,7 @@ from bot.rounds.messages import (
 from bot.rounds.permissions import require_admin, require_member
 from bot.rounds.phases import Phase, Step, transition
 from bot.rounds.records import AuditKind, QuestionRecord, RoundRecord, TimerKind
+from bot.rounds.search_steps import Answered, Disputed, RoundClosed
 from bot.rounds.searches import AnySearch, expected_rounds, records_of, round_of
 from solver import InvalidAnswer, InvalidState, ParallelSearch, Proposal, Question
 from solver.problem import is_placeholder
@@ -46,7 +47,7 @@ from solver.problem import is_placeholder
 
 async def start_search(ctx: Context, record: RoundRecord, search: AnySearch) -> None:
     """The first questions of a new search (the start may already infer some answers)."""
-    ctx.searches[record.id] = (record.walk_rev, search)
+    ctx.hold_new_search(record, search)
     await log_inferred(ctx, record, search, since=0)
     await sync_search(ctx, record, search)
 
@@ -103,8 +104,8 @@ async def withdraw_unneeded(ctx: Context, record: RoundRecord, search: AnySearch
     The member's message loses its buttons, no reminder follows, and a late press is refused.
     """
     still_open = search.open_questions()
-    for stored in await ctx.tx.questions(record.id):
-        if stored.open and not any(question_ids.same_question(stored, q) for q in still_open):
+    for stored in await ctx.tx.open_questions(record.id):
+        if not any(question_ids.same_question(stored, q) for q in still_open):
             await ctx.tx.withdraw_question(record.id, stored.qid, ctx.now)
             await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER], ref=stored.qid)
             await ctx.audit(record.id, AuditKind.WITHDRAWN, stored.user_id, qid=stored.qid)
@@ -212,10 +213,10 @@ async def answer(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
         )
     if record.phase is not Phase.ASKING:
         raise StaleAction("this round is no longer asking questions; nothing changed")
-    search = ctx.search(record)
+    search = await ctx.search(record)
     before = len(records_of(search))
     try:
-        await asyncio.to_thread(search.answer, question_ids.search_id(qid), room)
+        await ctx.step(record.id, Answered(question_ids.search_id(qid), room))
     except (InvalidAnswer, InvalidState) as exc:
         raise StaleAction(f"that answer cannot be used: {exc}") from exc
     await ctx.tx.record_answer(record.id, qid, room, ctx.now)
@@ -239,13 +240,13 @@ async def next_round(ctx: Context, record: RoundRecord, actor: Actor) -> None:
     require_admin(record, actor, "move on to the next round")
     if record.phase is not Phase.ASKING:
         raise StaleAction(f"the round is {record.phase.in_words}; there is no round of questions")
-    search = ctx.search(record)
+    search = await ctx.search(record)
     if round_of(search) is None:
         raise StaleAction("questions go to one of you at a time in this round; nothing to close")
     assert isinstance(search, ParallelSearch)
     before = len(records_of(search))
     try:
-        await asyncio.to_thread(search.close_round)
+        await ctx.step(record.id, RoundClosed())
     except InvalidState as exc:
         raise StaleAction(str(exc)) from exc
     await ctx.audit(record.id, AuditKind.ROUND_CLOSED, actor.user_id)
@@ -292,7 +293,7 @@ async def accept(ctx: Context, record: RoundRecord, actor: Actor, ref: str) -> N
     """A member accepts the current proposal; the last acceptance settles the round."""
     members = await ctx.tx.members(record.id)
     me = require_member(members, actor)
-    proposal = _current_proposal(record, ref, ctx.search(record))
+    proposal = _current_proposal(record, ref, await ctx.search(record))
     if me.accepted_at is not None:
         raise StaleAction("you have already accepted this proposal; nothing changed")
     await ctx.tx.set_accepted(record.id, actor.user_id, ctx.now)
@@ -329,7 +330,7 @@ async def begin_objection(ctx: Context, record: RoundRecord, actor: Actor, ref: 
     """Step one of an objection: ask the member privately which room they would rather take."""
     members = await ctx.tx.members(record.id)
     me = require_member(members, actor)
-    proposal = _current_proposal(record, ref, ctx.search(record))
+    proposal = _current_proposal(record, ref, await ctx.search(record))
     if me.accepted_at is not None:
         raise StaleAction("you have already accepted this proposal; it can no longer be objected")
     if await same_split.last_choice_due(ctx, record):
@@ -359,13 +360,13 @@ async def object_with_room(
     """Step two: the member names the room; the search takes it as a fact and asks again."""
     members = await ctx.tx.members(record.id)
     me = require_member(members, actor)
-    search = ctx.search(record)
+    search = await ctx.search(record)
     proposal = _current_proposal(record, ref, search)
     if me.accepted_at is not None:
         raise StaleAction("you have already accepted this proposal; it can no longer be objected")
     before = len(records_of(search))
     try:
-        await asyncio.to_thread(search.dispute, str(actor.user_id), room)
+        await ctx.step(record.id, Disputed(str(actor.user_id), room))
     except (InvalidAnswer, InvalidState) as exc:
         raise StaleAction(f"that objection cannot be used: {exc}") from exc
     phase = transition(record.phase, Step.OBJECTION_UPHELD)

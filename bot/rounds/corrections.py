@@ -86,7 +86,7 @@ async def change(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
         raise StaleAction("that is already your answer; nothing changed")
     if room not in stored.choices:
         raise StaleAction("that room was not offered in this question; nothing changed")
-    search = ctx.search(record)
+    search = await ctx.search(record)
     index = replay.answer_index(search, question_ids.search_id(qid))
     if index is None:
         raise StaleAction("the search no longer uses that answer; nothing changed")
@@ -98,7 +98,7 @@ async def change(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
             "that answer can no longer be changed in this round; ask the admin to start a "
             f"new round if it matters ({exc})"
         ) from exc
-    ctx.searches[record.id] = (ctx.searches[record.id][0], result.search)
+    ctx.hold_new_search(record, result.search)
     all_stored = await ctx.tx.questions(record.id)
     await ctx.tx.retract_answer(record.id, qid, ctx.now)
     now_qid = question_ids.fresh_id(all_stored, question_ids.search_id(qid))
@@ -168,7 +168,7 @@ async def _set_aside(
 
 async def _after_change(ctx: Context, record: RoundRecord, before: Proposal | None) -> None:
     """Withdraw a proposal the change undid, then ask what the rebuilt search asks."""
-    search = ctx.search(record)
+    search = await ctx.search(record)
     now = search.proposal()
     unchanged = before is not None and now is not None and replay.same_split(before, now)
     if record.phase is Phase.PROPOSED and not unchanged:

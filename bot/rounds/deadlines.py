@@ -42,7 +42,7 @@ async def _remind(ctx: Context, record: RoundRecord, timer: TimerRecord) -> None
         return
     if record.phase is not Phase.ASKING:
         return
-    search = ctx.search(record)
+    search = await ctx.search(record)
     for question in search.open_questions():
         if question.id == search_id(timer.ref) and int(question.member) == timer.user_id:
             shown = as_stored(question, timer.ref)
@@ -55,7 +55,7 @@ async def _remind_to_vote(ctx: Context, record: RoundRecord, user_id: int, ref: 
         return
     members = await ctx.tx.members(record.id)
     if any(m.user_id == user_id and m.accepted_at is None for m in members):
-        proposal = ctx.search(record).proposal()
+        proposal = (await ctx.search(record)).proposal()
         assert proposal is not None
         choices: tuple[Choice, ...] = (await issue_choice(ctx, record.id, Action.ACCEPT, ref),)
         if not await last_choice_due(ctx, record):  # objections used up: agree, or wait
@@ -69,7 +69,7 @@ async def _hold_up(ctx: Context, record: RoundRecord) -> None:
     members = await ctx.tx.members(record.id)
     names = {str(m.user_id): m.display_name for m in members}
     if record.phase is Phase.ASKING:
-        waiting = [names[q.member] for q in ctx.search(record).open_questions()]
+        waiting = [names[q.member] for q in (await ctx.search(record)).open_questions()]
     elif record.phase is Phase.PROPOSED:
         waiting = [m.display_name for m in members if m.accepted_at is None]
     else:

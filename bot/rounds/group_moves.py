@@ -37,7 +37,7 @@ async def move_group(ctx: Context, event: MoveGroup) -> None:
     if record.phase not in _WITH_BOARD:
         return
     members = await ctx.tx.members(record.id)
-    proposal = ctx.search(record).proposal()
+    proposal = (await ctx.search(record)).proposal()
     if record.phase is Phase.PROPOSED and proposal is not None:
         number = str(record.proposal_no)
         choices = (

@@ -14,7 +14,8 @@ from typing import Any
 from bot.rounds.phases import ENDED_PHASES, OPEN_PHASES, Phase
 from bot.rounds.question_ids import search_id
 from bot.rounds.round_settings import RoundSettings
-from bot.rounds.searches import AnySearch, load, records_of
+from bot.rounds.search_steps import replay
+from bot.rounds.searches import AnySearch, records_of
 from solver import BrokenInvariant
 
 Dump = dict[str, list[tuple[Any, ...]]]
@@ -33,8 +34,11 @@ def check_dump(dump: Dump) -> None:
     open_per_group = Counter(row[1] for row in dump["rounds"] if Phase(row[3]) in OPEN_PHASES)
     crowded = [group for group, count in open_per_group.items() if count > 1]
     _require(not crowded, f"groups {crowded} have more than one open round")
+    steps: defaultdict[int, list[tuple[Any, ...]]] = defaultdict(list)
+    for row in dump.get("search_steps", []):
+        steps[row[0]].append(row)
     for row in dump["rounds"]:
-        _check_round(row, members[row[0]], questions[row[0]])
+        _check_round(row, members[row[0]], questions[row[0]], steps[row[0]])
     check_private_stays_private(dump)
 
 
@@ -50,7 +54,10 @@ def check_private_stays_private(dump: Dump) -> None:
 
 
 def _check_round(
-    row: tuple[Any, ...], members: list[tuple[Any, ...]], questions: list[tuple[Any, ...]]
+    row: tuple[Any, ...],
+    members: list[tuple[Any, ...]],
+    questions: list[tuple[Any, ...]],
+    steps: list[tuple[Any, ...]],
 ) -> None:
     round_id, phase, settings = row[0], Phase(row[3]), RoundSettings.from_json(row[4])
     rooms = len(settings.rooms)
@@ -60,6 +67,7 @@ def _check_round(
         _require(phase in ENDED_PHASES, f"round {round_id} is {phase.value} but forgotten")
         _require(row[5] is None, f"round {round_id} is forgotten but keeps its walk")
         _require(not questions, f"round {round_id} is forgotten but keeps its questions")
+        _require(not steps, f"round {round_id} is forgotten but keeps its search steps")
         accepted = [m for m in members if m[4] is not None]
         _require(
             phase is not Phase.SETTLED or len(accepted) == len(members),
@@ -68,6 +76,7 @@ def _check_round(
         return
     if row[5] is None:
         _require(not questions, f"round {round_id} has questions but no walk")
+        _require(not steps, f"round {round_id} has search steps but no snapshot")
         _require(
             phase not in (Phase.ASKING, Phase.PROPOSED, Phase.SETTLED),
             f"round {round_id} is {phase.value} without a walk",
@@ -77,7 +86,13 @@ def _check_round(
         len(members) == rooms or settings.fewest_members <= len(members) < rooms,
         f"round {round_id} asks with {len(members)} of {rooms}",
     )
-    walk = load(round_id, row[5])
+    numbers = sorted(step[1] for step in steps)
+    _require(
+        numbers == list(range(1, len(steps) + 1)),
+        f"round {round_id}: search steps numbered {numbers}, not 1..{len(steps)}",
+    )
+    # What survives a restart: the snapshot with its steps applied again.
+    walk = replay(round_id, row[5], [step[2] for step in sorted(steps, key=lambda s: s[1])])
     room_rent = settings.room_rent(len(members))
     # With empty rooms the question prices list every room and need not add up to the rent.
     _check_questions(round_id, walk, questions, room_rent if len(members) == rooms else None)

@@ -96,6 +96,9 @@ async def change_rent(ctx: Context, event: ChangeRent) -> None:
         new_rent=settings.rent,
         prices=proposal.prices,
     )
+    created = await ctx.tx.round_by_id(round_id)
+    assert created is not None
+    ctx.hold_new_search(created, search)
     await ctx.save_search(round_id, search)
     record = await ctx.tx.round_by_id(round_id)
     assert record is not None
@@ -156,9 +159,9 @@ def _repriced(
     )
 
 
-def is_repriced(ctx: Context, record: RoundRecord) -> bool:
+async def is_repriced(ctx: Context, record: RoundRecord) -> bool:
     """The round is still at its re-priced proposal (no objection has replaced it)."""
-    return record.walk_json is not None and isinstance(ctx.search(record), RepricedSearch)
+    return record.walk_json is not None and isinstance(await ctx.search(record), RepricedSearch)
 
 
 async def object_with_room(
@@ -171,7 +174,7 @@ async def object_with_room(
     """
     members = await ctx.tx.members(record.id)
     me = require_member(members, actor)
-    proposal = ctx.search(record).proposal()
+    proposal = (await ctx.search(record)).proposal()
     if record.phase is not Phase.PROPOSED or ref != str(record.proposal_no) or proposal is None:
         raise StaleAction("that proposal has been replaced or closed; use the latest one")
     if me.accepted_at is not None:

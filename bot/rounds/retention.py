@@ -3,9 +3,9 @@
 A round that ended (agreed, cancelled or lapsed) more than ``keep_answers_days`` ago loses
 everything that records what members answered privately: its questions, button tokens,
 choices about earlier answers, timers, the audit rows of kinds
-:data:`~bot.rounds.records.PRIVATE_AUDIT_KINDS`, and its walk; it is marked forgotten
-(``rounds.forgotten_at``). Its members, settings, the group-visible audit rows (created,
-joined, proposals, acceptances, the agreement) and the written agreement stay, so
+:data:`~bot.rounds.records.PRIVATE_AUDIT_KINDS`, and its search (snapshot and steps); it is
+marked forgotten (``rounds.forgotten_at``). Its members, settings, the group-visible audit
+rows (created, joined, proposals, acceptances, the agreement) and the written agreement stay, so
 ``/agreements`` shows it as before. Processed event keys and sent or dropped messages older
 than ``keep_log_days`` are deleted too (messages of open rounds stay).
 

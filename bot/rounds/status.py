@@ -26,7 +26,7 @@ async def status_of(ctx: Context, record: RoundRecord) -> StatusFacts:
     waiting: list[int] = []
     round_number = expected = None
     if record.phase is Phase.ASKING:
-        search = ctx.search(record)
+        search = await ctx.search(record)
         round_number, expected = round_of(search), expected_rounds(search)
         for question in search.open_questions():
             if int(question.member) not in waiting:

@@ -188,6 +188,22 @@ MIGRATIONS: tuple[Migration, ...] = (
             "ALTER TABLE rounds ADD COLUMN forgotten_at INTEGER",
         ),
     ),
+    Migration(
+        8,
+        "a round's search stored as a snapshot plus the steps applied after it",
+        (
+            # rounds.walk becomes the snapshot; each answer, closed round or objection
+            # appends one row here instead of rewriting the whole search
+            # (bot.rounds.search_steps). A search stored whole before this migration is a
+            # snapshot with no steps, so it loads as it is.
+            """CREATE TABLE search_steps (
+                round_id INTEGER NOT NULL REFERENCES rounds(id),
+                seq      INTEGER NOT NULL,
+                step     TEXT NOT NULL,
+                PRIMARY KEY (round_id, seq)
+            )""",
+        ),
+    ),
 )
 
 

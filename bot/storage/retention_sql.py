@@ -39,8 +39,9 @@ class RetentionQueries(SqlRunner):
 
     async def forget_round(self, round_id: int, at: int, audit_kinds: Sequence[str]) -> None:
         """Delete a finished round's questions, tokens, choices, timers, private audit rows
-        and walk; mark it forgotten. ``walk_rev`` moves on so no cached walk outlives it."""
-        for table in ("questions", "tokens", "earlier_choices", "timers"):
+        and search (snapshot and steps); mark it forgotten. ``walk_rev`` moves on so no
+        cached search outlives it."""
+        for table in ("questions", "tokens", "earlier_choices", "timers", "search_steps"):
             await self._run(f"DELETE FROM {table} WHERE round_id = ?", (round_id,))
         await self._run(
             f"DELETE FROM audit WHERE round_id = ? AND kind IN "

@@ -26,6 +26,7 @@ from bot.rounds.round_settings import RoundSettings
 from bot.storage.later_sql import LaterQueries
 from bot.storage.migrations import OPEN_PHASES_SQL
 from bot.storage.retention_sql import RetentionQueries
+from bot.storage.search_sql import SearchStepQueries
 
 TABLES = (
     "schema_version",
@@ -40,6 +41,7 @@ TABLES = (
     "contacts",
     "earlier_choices",
     "agreements",
+    "search_steps",
 )
 _ROUND_COLUMNS = (
     "id, group_id, admin_id, phase, settings, walk, walk_rev, proposal_no, previous_round, "
@@ -51,7 +53,7 @@ _QUESTION_COLUMNS = (
 )
 
 
-class SqlTransaction(LaterQueries, RetentionQueries):
+class SqlTransaction(LaterQueries, RetentionQueries, SearchStepQueries):
     """The :class:`~bot.rounds.store_port.Transaction` protocol in one SQL text for both databases.
 
     Written for SQLite's dialect (``?`` placeholders) on one aiosqlite connection; the
@@ -136,6 +138,8 @@ class SqlTransaction(LaterQueries, RetentionQueries):
             params.append(proposal_no)
         params.append(round_id)
         await self._run(f"UPDATE rounds SET {', '.join(sets)} WHERE id = ?", params)
+        if walk_json is not None:  # a new snapshot covers every step stored after the old one
+            await self._run("DELETE FROM search_steps WHERE round_id = ?", (round_id,))
 
     async def unrecorded_settled_rounds(self, group_id: int) -> list[RoundRecord]:
         """Settled rounds with a walk but no stored agreement (agreed before migration 7)."""
@@ -263,6 +267,16 @@ class SqlTransaction(LaterQueries, RetentionQueries):
         disagree on casting text such as ``1-1`` to a number."""
         rows = await self._all(
             f"SELECT {_QUESTION_COLUMNS} FROM questions WHERE round_id = ?", (round_id,)
+        )
+        return sorted(map(_question, rows), key=lambda q: (q.asked_at, _asked_order(q.qid)))
+
+    async def open_questions(self, round_id: int) -> list[QuestionRecord]:
+        """The round's questions still waiting for an answer, in the order they were asked:
+        read on every answer, so it never decodes the hundreds a long walk has answered."""
+        rows = await self._all(
+            f"SELECT {_QUESTION_COLUMNS} FROM questions WHERE round_id = ? "
+            "AND answered_at IS NULL AND withdrawn_at IS NULL",
+            (round_id,),
         )
         return sorted(map(_question, rows), key=lambda q: (q.asked_at, _asked_order(q.qid)))
 

@@ -15,7 +15,7 @@ from pathlib import Path
 import pytest
 
 from bot.adapter.application import running
-from bot.rounds.searches import load
+from bot.rounds.search_steps import stored_search
 from bot.sandbox import BotApiStandIn
 from bot.storage.sqlite import SqliteStore
 from solver import ParallelSearch, Problem, start
@@ -45,10 +45,10 @@ async def test_a_round_ends_exactly_in_the_rounds_the_solver_predicts(
     try:
         async with store.transaction() as tx:
             record = await tx.latest_round(flat.group.id)
+            assert record is not None
+            search = await stored_search(tx, record)
     finally:
         await store.close()
-    assert record is not None and record.walk_json is not None
-    search = load(record.id, record.walk_json)
     assert isinstance(search, ParallelSearch) and search.walk is None
     assert search.round_number == predicted
     proposal = search.proposal()

@@ -19,7 +19,7 @@ from flat_scenario import GROUP, RENT_TEXT, ROOMS, SECRET, people, tenants_for
 from bot.rounds.context import EngineConfig
 from bot.rounds.engine import Engine
 from bot.rounds.events import Press, ShowMyAnswers
-from bot.rounds.invariants import check_dump
+from bot.rounds.invariants import Dump, check_dump
 from bot.rounds.messages import (
     Action,
     ChangeFacts,
@@ -30,6 +30,7 @@ from bot.rounds.messages import (
     QuestionFacts,
 )
 from bot.rounds.records import AuditKind
+from bot.rounds.search_steps import replay
 from bot.rounds.simulated_rounds import Rehearsal
 from bot.storage.sqlite import SqliteStore
 from solver.simulate import Tenant
@@ -122,8 +123,9 @@ async def test_a_changed_misclick_ends_where_a_round_without_it_ends(
     finally:
         await store.close()
         await clean_store.close()
-    # The stored search is the one the clean round ended with (same answers, same order).
-    assert [r[5] for r in dump["rounds"]] == [r[5] for r in clean_dump["rounds"]]
+    # The stored search (snapshot plus steps) is the one the clean round ended with (same
+    # answers, same order).
+    assert _searches(dump) == _searches(clean_dump)
     changes = [row for row in dump["audit"] if row[3] == AuditKind.ANSWER_CHANGED]
     assert len(changes) == 1
     detail = json.loads(changes[0][5])
@@ -189,3 +191,11 @@ async def test_buttons_of_replaced_questions_refuse_and_store_nothing(store: Sql
     assert prompt[0].kind is Kind.CHANGE_PROMPT
     assert isinstance(prompt[0].facts, ChangeFacts) and prompt[0].facts.old_room == wrong_room
     check_dump(await store.dump())
+
+
+def _searches(dump: Dump) -> list[str]:
+    """Each round's search as the store holds it, loaded: its snapshot with its steps."""
+    steps: dict[int, list[str]] = {}
+    for row in sorted(dump.get("search_steps", []), key=lambda row: (row[0], row[1])):
+        steps.setdefault(row[0], []).append(row[2])
+    return [replay(r[0], r[5], steps.get(r[0], [])).to_json() for r in dump["rounds"]]

@@ -126,6 +126,7 @@ async def test_private_answers_are_forgotten_after_the_period_and_the_agreement_
             await tx.set_outgoing_state(row.id, OutboxState.SENT, clock())
     settled = await store.dump()
     assert settled["questions"] and settled["tokens"] and settled["processed_events"]
+    assert [row for row in settled["search_steps"] if row[0] == round_id]  # steps after a snapshot
     assert PRIVATE_KINDS & {row[3] for row in settled["audit"]}
 
     await _forget_after(engine, clock, 29)  # nothing is due yet
@@ -139,6 +140,7 @@ async def test_private_answers_are_forgotten_after_the_period_and_the_agreement_
     await _forget_after(engine, clock, 30)  # 61 days after the round ended
     dump = await store.dump()
     assert dump["questions"] == [] and dump["tokens"] == [] and dump["earlier_choices"] == []
+    assert dump["search_steps"] == []
     assert [row for row in dump["timers"] if row[1] == round_id] == []
     assert not PRIVATE_KINDS & {row[3] for row in dump["audit"]}
     kept = {row[3] for row in dump["audit"]}

@@ -15,7 +15,7 @@ from backends import AnyStore, OpenStore, Schema
 from bot.rounds.clock import ManualClock
 from bot.rounds.errors import StorageFault
 from bot.rounds.messages import Action
-from bot.rounds.records import TokenRecord
+from bot.rounds.records import QuestionRecord, TokenRecord
 from bot.rounds.round_settings import build_settings
 from bot.rounds.setup_input import SetupInput
 from bot.storage.migrations import MIGRATIONS
@@ -191,3 +191,21 @@ async def test_postgres_schema_uses_bigint_and_identity(pg_schema: Schema) -> No
 async def test_postgres_refuses_a_non_postgres_address() -> None:
     with pytest.raises(StorageFault, match="postgresql://"):
         await PostgresStore.open("/var/lib/flatpact/flatpact.sqlite3")
+
+
+async def test_open_questions_are_the_unanswered_unwithdrawn_ones_in_asked_order(
+    store: AnyStore,
+) -> None:
+    round_id = await _new_round(store)
+    async with store.transaction() as tx:
+        await tx.add_member(round_id, 7, "Ana", 0)
+        for qid, asked_at in (("q10", 5), ("q9", 5), ("q2", 4), ("q11", 6), ("q12", 7)):
+            await tx.insert_question(
+                QuestionRecord(round_id, qid, 7, (1000, 850), (0, 1), asked_at, None, None)
+            )
+        await tx.record_answer(round_id, "q2", 1, 8)
+        await tx.withdraw_question(round_id, "q11", 8)
+        everything = await tx.questions(round_id)
+        still_open = await tx.open_questions(round_id)
+    assert [q.qid for q in still_open] == ["q9", "q10", "q12"]
+    assert still_open == [q for q in everything if q.open]

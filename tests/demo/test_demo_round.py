@@ -22,7 +22,8 @@ from bot.adapter.pictures import picture_data, render_png
 from bot.adapter.walk_picture import CAPTION_LIMIT
 from bot.demo.cli import main
 from bot.demo.sandbox_round import DemoOptions, DemoResult, run_round
-from bot.rounds.searches import AnySearch, load, records_of
+from bot.rounds.search_steps import stored_search
+from bot.rounds.searches import AnySearch, records_of
 from bot.storage.sqlite import SqliteStore
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # PNG spec (ISO/IEC 15948) section 5.2
@@ -45,11 +46,13 @@ async def stored(
             names = {str(m.user_id): m.display_name for m in await tx.members(round_id)}
             record = await tx.round_by_id(round_id)
             asked = {q.prices for q in await tx.questions(round_id)}
+            assert record is not None
+            search = await stored_search(tx, record)
     finally:
         await store.close()
-    assert record is not None and record.walk_json is not None
+    assert search is not None
     assignment = {names[user]: room for user, room in detail["assignment"].items()}
-    return assignment, detail["prices"], load(record.id, record.walk_json), asked
+    return assignment, detail["prices"], search, asked
 
 
 async def three_rooms(tmp_path: Path) -> tuple[DemoResult, str]:
