@@ -224,6 +224,8 @@ def round_text(
         f"than {f.question_limit} questions without a split everyone chose. Nothing was "
         "agreed. An admin can start again with /again, perhaps with a larger tolerance.",
     }.get(kind, "Round update.")
+    if kind is Kind.OBJECTION_NOTED:  # one line: the settings are on the status message
+        return headline
     lines = [headline, *_settings_lines(f, locale)]
     if kind is Kind.ASKING_STARTED:
         lines += _what_to_expect(f)

@@ -126,3 +126,11 @@ def test_help_is_short_and_setup_explains_every_option_in_one_line() -> None:
     assert "below zero means the others pay you" in setup
     how = help_texts.help_text("how")
     assert "two assumptions" in how and CAUTION in how
+
+
+def test_a_swap_request_is_one_line_in_the_group() -> None:
+    # The settings and members are on the live status message already; repeating them with
+    # every request to swap is what made the group chat noisy.
+    facts = RoundFacts(1, -1, "asking", 1850_00, "EUR", 2, ROOMS, 100, 0, ("Ines",))
+    text = texts.render(Outgoing(Recipient.group(-1), Kind.OBJECTION_NOTED, facts), "en")
+    assert "\n" not in text and "Ines" not in text and "1,850" not in text
