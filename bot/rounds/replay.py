@@ -93,6 +93,13 @@ def events_of(search: AnySearch) -> list[Event]:
     ]
 
 
+def kept_facts(search: AnySearch) -> list[Given]:
+    """The answers the search holds as facts (kept by changes), in the order given."""
+    if not isinstance(search, ParallelSearch):
+        return []
+    return [given for event in search.log if event[0] == FACTS for given in _facts(event)]
+
+
 def answer_index(search: AnySearch, question_id: str) -> int | None:
     """Where the answer to ``question_id`` is in :func:`events_of`, if the search holds it."""
     for index, event in enumerate(events_of(search)):
