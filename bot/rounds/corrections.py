@@ -179,8 +179,9 @@ async def _set_aside(
     """Mark answers whose question is gone and that the search could not keep; how many
     per owner."""
     owners: Counter[int] = Counter()
+    gone = set(_stored_ids(stored, dropped, changed_qid))
     for q in stored:
-        if q.qid in _stored_ids(stored, dropped, changed_qid):
+        if q.qid in gone:
             await ctx.tx.retract_answer(record.id, q.qid, ctx.now)
             await ctx.audit(record.id, AuditKind.ANSWER_SET_ASIDE, q.user_id, qid=q.qid)
             owners[q.user_id] += 1
