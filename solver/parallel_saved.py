@@ -2,7 +2,9 @@
 
 Format ``flatpact-rounds`` version 1, a JSON object with ``problem``, ``options``,
 ``rough`` (or null), ``earlier`` (member -> list of ``[prices, room]``), ``log`` (events in
-order: ``["answer", question_id, room]``, ``["close"]``, ``["dispute", member, room]``) and
+order: ``["answer", question_id, room]``, ``["close"]``, ``["dispute", member, room]``,
+``["facts", [[question_id, member, prices, room], ...]]`` (:mod:`solver.parallel_facts`; logs saved
+before facts existed simply hold none) and
 ``plans`` (each round's ``[mode, base, asks, assignment]``). Loading starts the search from
 the inputs and replays the log; stored plans are used instead of recomputing them, so a
 restart shows members exactly the questions they saw, even where floating point differs.
@@ -15,6 +17,7 @@ from __future__ import annotations
 import json
 from typing import TYPE_CHECKING, Any
 
+from solver import parallel_facts
 from solver.errors import BrokenInvariant, InvalidState
 from solver.problem import Problem
 from solver.rounds import ParallelOptions, Plan
@@ -75,6 +78,8 @@ def _rebuild(cls: type[ParallelSearch], data: dict[str, Any], plans: list[Plan])
             search.close_round()
         elif kind == "dispute":
             search.dispute(str(args[0]), int(args[1]))
+        elif kind == parallel_facts.EVENT:
+            parallel_facts.apply_event(search, args[0])
         else:
             raise BrokenInvariant(f"unknown event {kind!r} in a saved search")
     return search

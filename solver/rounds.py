@@ -14,7 +14,8 @@ from typing import Any, Literal
 Mode = Literal["centre", "near-tie", "adjust"]
 MODES: tuple[Mode, ...] = ("centre", "near-tie", "adjust")
 
-#: ``("answer", question_id, room)``, ``("close",)`` or ``("dispute", member, room)``.
+#: ``("answer", question_id, room)``, ``("close",)``, ``("dispute", member, room)`` or
+#: ``("facts", [[question_id, member, prices, room], ...])`` (:mod:`solver.parallel_facts`).
 Event = tuple[Any, ...]
 
 

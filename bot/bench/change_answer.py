@@ -3,7 +3,8 @@
 ``python -m bot.bench.change_answer --rooms 6 --answers 60`` answers that many questions of
 one search with simulated tenants (seeded), then changes one answer (the first, the middle
 one and the last) with :func:`bot.rounds.replay.rebuild` and prints how long each rebuild
-took and how many later answers it set aside, for both methods. The rebuild replays the
+took, how many later answers it set aside and how many it kept as facts (the parallel
+method keeps answers whose question is gone as facts), for both methods. The rebuild replays the
 stored answers twice (the original beside the changed one), in the press's worker thread.
 """
 
@@ -57,7 +58,8 @@ def main(argv: Sequence[str] | None = None) -> None:
             took = time.perf_counter() - began
             print(
                 f"{method:8} {args.rooms} rooms, {len(asked)} answers: change the {which:6} "
-                f"answer: {took * 1000:7.1f} ms, {len(result.dropped_answers)} set aside"
+                f"answer: {took * 1000:7.1f} ms, {len(result.dropped_answers)} set aside, "
+                f"{len(result.kept_answers)} kept as facts"
             )
 
 

@@ -3,11 +3,14 @@
 A change is a new fact: the search is rebuilt with the new room in place of the old
 (:mod:`bot.rounds.replay`): everything before the changed answer replays identically, later
 answers are kept wherever their question is exactly the same, and the first question that
-differs is asked anew. Later answers whose question no longer exists are *set aside*: kept in
-the questions table and the log (marked, never deleted) but no longer used, and their owners
-are told privately. Open questions the rebuilt search no longer asks are withdrawn; their
-buttons answer "this question was replaced" and store nothing. A proposal the change undoes
-is withdrawn from the group.
+differs is asked anew. With the parallel method a later answer whose question no longer
+exists is kept as a fact ("at these prices they took this room" stays true): it still
+counts, its owner is told nothing, and the audit entry lists it as kept. With the walk
+(whose answers are labels on its grid) such answers are *set aside*: kept in the questions
+table and the log (marked, never deleted) but no longer used, and their owners are told
+privately. Open questions the rebuilt search no longer asks are withdrawn; their buttons
+answer "this question was replaced" and store nothing. A proposal the change undoes is
+withdrawn from the group.
 
 Everything runs in the press's one transaction, so the member's confirmation is only sent
 once the change, the rebuilt search and the audit entry are committed together.
@@ -87,12 +90,14 @@ async def change(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
     if room not in stored.choices:
         raise StaleAction("that room was not offered in this question; nothing changed")
     search = await ctx.search(record)
-    index = replay.answer_index(search, question_ids.search_id(qid))
-    if index is None:
+    where = replay.find_answer(
+        search, question_ids.search_id(qid), str(stored.user_id), stored.prices
+    )
+    if where is None:
         raise StaleAction("the search no longer uses that answer; nothing changed")
     before = search.proposal()
     try:
-        result = await asyncio.to_thread(replay.rebuild, search, index, room)
+        result = await asyncio.to_thread(replay.rebuild, search, where, room, prices=stored.prices)
     except replay.CannotReplay as exc:
         raise StaleAction(
             "that answer can no longer be changed in this round; ask the admin to start a "
@@ -114,7 +119,7 @@ async def change(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
             room=room,
         )
     )
-    owners = await _set_aside(ctx, record, all_stored, set(result.dropped_answers), qid)
+    owners = await _set_aside(ctx, record, all_stored, result.dropped_answers, qid)
     await ctx.audit(
         record.id,
         AuditKind.ANSWER_CHANGED,
@@ -124,7 +129,8 @@ async def change(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
         prices=stored.prices,
         room=room,
         was=stored.room,
-        set_aside=sorted(result.dropped_answers),
+        set_aside=sorted(_stored_ids(all_stored, result.dropped_answers, qid)),
+        kept_as_facts=sorted(_stored_ids(all_stored, result.kept_answers, qid)),
         objections_set_aside=[list(o) for o in result.dropped_objections],
     )
     s = record.settings
@@ -148,18 +154,34 @@ async def change(ctx: Context, record: RoundRecord, actor: Actor, qid: str, room
     await _after_change(ctx, record, before)
 
 
+def _stored_ids(
+    stored: list[QuestionRecord], answers: list[replay.Given], changed_qid: str
+) -> list[str]:
+    """The live stored rows of ``answers`` (same search id, owner and prices)."""
+    wanted = {(a.question_id, a.member, a.prices) for a in answers}
+    return [
+        q.qid
+        for q in stored
+        if q.answered_at is not None
+        and q.withdrawn_at is None
+        and q.qid != changed_qid
+        and (question_ids.search_id(q.qid), str(q.user_id), q.prices) in wanted
+    ]
+
+
 async def _set_aside(
     ctx: Context,
     record: RoundRecord,
     stored: list[QuestionRecord],
-    dropped: set[str],
+    dropped: list[replay.Given],
     changed_qid: str,
 ) -> Counter[int]:
-    """Mark answers whose question is gone; how many per owner."""
+    """Mark answers whose question is gone and that the search could not keep; how many
+    per owner."""
     owners: Counter[int] = Counter()
+    gone = set(_stored_ids(stored, dropped, changed_qid))
     for q in stored:
-        live = q.answered_at is not None and q.withdrawn_at is None and q.qid != changed_qid
-        if live and question_ids.search_id(q.qid) in dropped:
+        if q.qid in gone:
             await ctx.tx.retract_answer(record.id, q.qid, ctx.now)
             await ctx.audit(record.id, AuditKind.ANSWER_SET_ASIDE, q.user_id, qid=q.qid)
             owners[q.user_id] += 1

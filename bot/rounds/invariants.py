@@ -13,6 +13,7 @@ from typing import Any
 
 from bot.rounds.phases import ENDED_PHASES, OPEN_PHASES, Phase
 from bot.rounds.question_ids import search_id
+from bot.rounds.replay import kept_facts
 from bot.rounds.round_settings import RoundSettings
 from bot.rounds.search_steps import replay
 from bot.rounds.searches import AnySearch, records_of
@@ -130,7 +131,8 @@ def _check_questions(
         )
     # Columns of the questions table: round_id, qid, user_id, prices, choices,
     # sent_message_id (no longer written), asked_at, answered_at, room, withdrawn_at.
-    # Every stored answer is an answer the search holds, and the other way round: who, at
+    # Every stored answer is an answer the search holds (asked, or kept as a fact after a
+    # change), and the other way round: who, at
     # which prices, which room (a multiset: the same question may come back in a later round).
     stored = Counter(
         (str(q[2]), tuple(json.loads(q[3])), q[8])
@@ -138,6 +140,7 @@ def _check_questions(
         if q[7] is not None and q[9] is None  # answered, not set aside by a correction
     )
     held = Counter((r.member, r.prices, r.room) for r in records_of(search) if r.source == "asked")
+    held.update((f.member, f.prices, f.room) for f in kept_facts(search))  # kept by a change
     _require(
         stored == held, f"round {round_id}: the search's answers and the stored answers differ"
     )

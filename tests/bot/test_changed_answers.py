@@ -33,6 +33,7 @@ from bot.rounds.records import AuditKind
 from bot.rounds.search_steps import replay
 from bot.rounds.simulated_rounds import Rehearsal
 from bot.storage.sqlite import SqliteStore
+from solver import ParallelSearch, exact_certificate, resume
 from solver.simulate import Tenant
 
 NOW = 1_767_225_600
@@ -199,3 +200,65 @@ def _searches(dump: Dump) -> list[str]:
     for row in sorted(dump.get("search_steps", []), key=lambda row: (row[0], row[1])):
         steps.setdefault(row[0], []).append(row[2])
     return [replay(r[0], r[5], steps.get(r[0], [])).to_json() for r in dump["rounds"]]
+
+
+async def test_with_rounds_a_changed_first_answer_keeps_every_later_answer(
+    store: SqliteStore,
+) -> None:
+    """Three rounds of three answered, then the very first answer changes. With rounds every
+    later answer stays true at its own prices, so none is set aside and nobody is told; the
+    round then still ends in an exact certificate (each took their room at exactly the final
+    prices), which is envy-free by the definition for the simulated tenants' true values. A
+    kept answer can itself be changed, and changed back."""
+    members = people(3)
+    tenants: dict[str, Tenant] = dict(tenants_for(members, 6))
+    first = str(members[0].user_id)
+    clicker = Misclicks(tenants[first], 1)
+    tenants[first] = clicker
+    engine = Engine(store, clock=lambda: NOW, config=EngineConfig(SECRET))
+    play = Rehearsal(engine, GROUP, members[0], members, tenants)
+    queue = deque(await play.set_up(RENT_TEXT, ROOMS[:3]))
+    while play.answers < 9:
+        message = queue.popleft()
+        assert message.kind is not Kind.PROPOSAL, "three rounds without a proposal"
+        queue.extend(await play.react(message))
+    progress = next(
+        m for m in play.log if m.kind is Kind.PROGRESS and m.to.chat_id == members[0].user_id
+    )
+    assert clicker.meant is not None
+    out = await _change(play, progress, clicker.meant)
+    assert not [m for m in out if m.kind is Kind.ANSWERS_SET_ASIDE], "nobody is told"
+    changed = out[0].facts
+    assert isinstance(changed, ChangeFacts) and changed.set_aside == 0
+    dump = await store.dump()
+    assert not [row for row in dump["audit"] if row[3] == AuditKind.ANSWER_SET_ASIDE]
+    detail = json.loads(next(row for row in dump["audit"] if row[3] == AuditKind.ANSWER_CHANGED)[5])
+    assert detail["set_aside"] == [] and len(detail["kept_as_facts"]) == 6, "rounds 2 and 3"
+    # Everyone's answers still count, and each has its change button.
+    second = members[1]
+    mine = await play.send(ShowMyAnswers(play.key(), GROUP, second))
+    hows = [line.how for line in mine[0].facts.lines]  # type: ignore[union-attr]
+    assert len(hows) == 3 and "set-aside" not in hows
+    assert [c.action for c in mine[0].choices] == [Action.CHANGE_ANSWER] * 3
+    # A kept answer (round 3's) is changed, then changed back.
+    prompt = await play.send(Press(play.key(), second, mine[0].choices[-1].token))
+    assert isinstance(prompt[0].facts, ChangeFacts)
+    kept_room = prompt[0].facts.old_room
+    other = prompt[0].choices[0]
+    again = await play.send(Press(play.key(), second, other.token))
+    assert again[0].kind is Kind.ANSWER_CHANGED
+    back_button = again[0].choices[0]
+    prompt = await play.send(Press(play.key(), second, back_button.token))
+    back = next(c for c in prompt[0].choices if c.room == kept_room)
+    out += again + await play.send(Press(play.key(), second, back.token))
+    settled = await play.play([*queue, *out])
+    assert settled.lines
+    dump = await store.dump()
+    check_dump(dump)
+    search = resume(_searches(dump)[0])
+    proposal = search.proposal()
+    assert isinstance(search, ParallelSearch) and proposal is not None
+    assert exact_certificate(proposal) and proposal.envy_bound == 0
+    for member, room in proposal.assignment.items():  # envy-free by the definition
+        assert tenants[member].envy(proposal.prices, room) <= 0
+    assert not [row for row in dump["audit"] if row[3] == AuditKind.ANSWER_SET_ASIDE]
