@@ -121,7 +121,7 @@ def summary(console: Console, result: DemoResult) -> None:
     for path in result.documents:
         console.print(f"Written agreement (as sent to the group): {path}")
     if result.picture is not None:
-        console.print(f"Picture of the walk (as sent to the group): {result.picture}")
+        console.print(f"Picture of the suggested split (as sent to the group): {result.picture}")
     else:
         console.print("No picture was sent to the group (see the log above).")
     console.print(
