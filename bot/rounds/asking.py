@@ -369,21 +369,23 @@ async def object_with_room(
         await ctx.step(record.id, Disputed(str(actor.user_id), room))
     except (InvalidAnswer, InvalidState) as exc:
         raise StaleAction(f"that objection cannot be used: {exc}") from exc
+    current = await uphold_objection(ctx, record, actor, proposal.prices, room)
+    await log_inferred(ctx, record, search, since=before + 1)
+    await sync_search(ctx, current, search)
+
+
+async def uphold_objection(
+    ctx: Context, record: RoundRecord, actor: Actor, prices: tuple[int, ...], room: int
+) -> RoundRecord:
+    """The split is off: back to asking, agreements and reminders cleared, the objection in
+    the log and a one-line note to the group. Returns the round as it now is."""
     phase = transition(record.phase, Step.OBJECTION_UPHELD)
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
     await ctx.tx.clear_accepted(record.id)
     await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER])
-    await ctx.audit(
-        record.id, AuditKind.OBJECTION, actor.user_id, prices=proposal.prices, room=room
-    )
-    await log_inferred(ctx, record, search, since=before + 1)
+    await ctx.audit(record.id, AuditKind.OBJECTION, actor.user_id, prices=prices, room=room)
     current = await ctx.tx.round_by_id(record.id)
     assert current is not None
-    ctx.send(
-        Outgoing(
-            Recipient.group(record.group_id),
-            Kind.OBJECTION_NOTED,
-            round_facts(current, await ctx.tx.members(record.id)),
-        )
-    )
-    await sync_search(ctx, current, search)
+    facts = round_facts(current, await ctx.tx.members(record.id))
+    ctx.send(Outgoing(Recipient.group(record.group_id), Kind.OBJECTION_NOTED, facts))
+    return current

@@ -28,15 +28,14 @@ import asyncio
 from dataclasses import replace
 
 from bot.rounds import agreement_records, rough_values
-from bot.rounds.asking import propose, start_search
+from bot.rounds.asking import propose, start_search, uphold_objection
 from bot.rounds.context import Context
 from bot.rounds.errors import InvalidSetup, Refusal, RefusalCode, StaleAction
 from bot.rounds.events import Actor, ChangeRent
-from bot.rounds.message_facts import round_facts
-from bot.rounds.messages import AgreementFacts, Kind, Outgoing, Recipient
+from bot.rounds.messages import AgreementFacts
 from bot.rounds.money_text import shown
 from bot.rounds.permissions import require_admin, require_may_start, require_member
-from bot.rounds.phases import Phase, Step, transition
+from bot.rounds.phases import Phase, Step
 from bot.rounds.records import AuditKind, RoundRecord, TimerKind
 from bot.rounds.repriced_search import RepricedProposal, RepricedSearch
 from bot.rounds.repricing import BelowFloor, spread_change
@@ -194,15 +193,5 @@ async def object_with_room(
         )
     except (InvalidProblem, InvalidAnswer) as exc:
         raise StaleAction(f"that objection cannot be used: {exc}") from exc
-    phase = transition(record.phase, Step.OBJECTION_UPHELD)
-    await ctx.tx.update_round(record.id, at=ctx.now, phase=phase)
-    await ctx.tx.clear_accepted(record.id)
-    await ctx.tx.drop_timers(record.id, [TimerKind.REMINDER])
-    await ctx.audit(
-        record.id, AuditKind.OBJECTION, actor.user_id, prices=proposal.prices, room=room
-    )
-    current = await ctx.tx.round_by_id(record.id)
-    assert current is not None
-    facts = round_facts(current, await ctx.tx.members(record.id))
-    ctx.send(Outgoing(Recipient.group(record.group_id), Kind.OBJECTION_NOTED, facts))
+    current = await uphold_objection(ctx, record, actor, tuple(proposal.prices), room)
     await start_search(ctx, current, search)
