@@ -39,6 +39,7 @@ CENTRE_SLACK = 0.5
 #: How often a box may be doubled before we give up on it (2**40 rents is beyond any price).
 MAX_WIDENINGS = 40
 NEWTON_STEPS = 100
+DEFAULT_HALF = 1.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -60,7 +61,8 @@ class Box:
 
 def default_box(rooms: int, rent: int) -> Box:
     """Values from 0 to the rent for every room."""
-    return Box((rent / 2,) * rooms, (rent / 2,) * rooms)
+    share = rent / rooms
+    return Box((share,) * rooms, (DEFAULT_HALF * share,) * rooms)
 
 
 def prior_box(rough: Sequence[float], rent: int) -> Box:

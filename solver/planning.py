@@ -28,6 +28,10 @@ from solver.learning import Box, ValueSet
 from solver.near_ties import largest_cut, nudged
 from solver.problem import Problem
 from solver.rounds import Plan
+from solver.twins import probe_asks
+
+PIN = 2
+PROBE_MARGIN = 0
 
 
 def centre_plan(
@@ -46,8 +50,12 @@ def centre_plan(
     pinned = False
     for vs, own in zip(value_sets, lp.assignment, strict=True):
         widths = np.delete(vs.widths()[own], own)
-        pinned = pinned or bool(np.any(widths < problem.tolerance))
+        pinned = pinned or bool(np.any(widths < PIN * problem.tolerance))
     if not pinned and base not in seen_bases:
+        asks = [base] * len(value_sets)
+        wide = PIN * problem.tolerance
+        if lp.margin <= PROBE_MARGIN * problem.tolerance and probe_asks(base, asks, value_sets, lp.assignment, wide, problem.floor):
+            return Plan("near-tie", base, tuple(asks), lp.assignment)
         return Plan("centre", base, (base,) * len(value_sets), lp.assignment)
     cut = largest_cut(base, let, problem.tolerance, problem.floor)
     asks = tuple(nudged(base, own, let, cut) for own in lp.assignment)
