@@ -20,7 +20,7 @@ from fractions import Fraction
 from solver.money import split_exactly
 
 #: First step as a share of an equal share of the rent, and the factor per adjustment round.
-FIRST_STEP = Fraction(1, 8)
+FIRST_STEP = Fraction(1, 16)
 SHRINK = Fraction(7, 10)
 
 

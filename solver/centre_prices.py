@@ -62,11 +62,16 @@ def welfare_assignment(values: np.ndarray) -> tuple[int, ...]:
 
 
 def largest_margin_prices(
-    values: np.ndarray, rent: int, floor: int, assignment: Sequence[int] | None = None
+    values: np.ndarray,
+    rent: int,
+    floor: int,
+    assignment: Sequence[int] | None = None,
+    *,
+    second_stage: bool = False,
 ) -> CentrePrices:
-    """Solve the LP of the module docstring (``values`` is members x rooms), then its second
-    stage: among the prices with that smallest margin, the largest margin for every member
-    and room not held to it (see :func:`_second_stage`)."""
+    """Solve the LP of the module docstring (``values`` is members x rooms). With
+    ``second_stage``, then among the prices with that smallest margin take those with the
+    largest margin for every member and room not held to it (see :func:`_solve`)."""
     rooms = values.shape[1]
     plan = tuple(assignment) if assignment is not None else welfare_assignment(values)
     let = set(plan)
@@ -96,7 +101,7 @@ def largest_margin_prices(
     duals = np.asarray(first.ineqlin.marginals[: len(margin_rows)], dtype=float)
     held = np.abs(duals) > DUAL_EPSILON
     result = first
-    if held.any() and not held.all():
+    if second_stage and held.any() and not held.all():
         second = _solve(margin_rows, gaps, order_rows, held, margin, equality, rent, bounds)
         if second.status == 0:
             result = second

@@ -323,6 +323,7 @@ class ParallelSearch:
                 self._values,
                 self._boxes(),
                 {p.base for p in self.plans},
+                second_stage=self.rough is not None,
             )
         self.plans.append(plan)
         self._round_picks = {}
