@@ -5,12 +5,14 @@ Three kinds of round (see :class:`solver.rounds.Plan`):
 * ``centre`` — every member's values are estimated by the analytic centre of what they said
   (:mod:`solver.learning`); the group is asked at the envy-free prices with the largest
   smallest margin for the estimates' welfare-maximising assignment
-  (:mod:`solver.centre_prices`). If everyone then takes a different room, those very answers
-  certify the division exactly.
+  (:mod:`solver.centre_prices`; with rough values, also the LP's second stage). If everyone
+  then takes a different room, those very answers certify the division exactly.
 * ``near-tie`` — as ``centre``, but each member sees their planned room a little cheaper
   (:mod:`solver.near_ties`): used once some member's values are pinned closer than the
   tolerance, or when the plan would repeat an earlier price list (answers there are known, so
-  asking again cannot make progress).
+  asking again cannot make progress). Also a round in which a pair of possible twins is asked
+  at two different points (:mod:`solver.twins`) when the estimates leave no common price list
+  with a positive margin; such a round cannot certify (its envy bound is above the tolerance).
 * ``adjust`` — model-free price adjustment (:mod:`solver.adjustment`) once any member's
   answers contradict the one-for-one money assumption.
 """
@@ -33,7 +35,7 @@ from solver.twins import probe_asks
 #: A member's values count as pinned (and a near-tie round is planned) once some difference
 #: to their planned room is known closer than this many tolerances: a near-tie round bridges
 #: about one tolerance either side of the estimate's centre (measured, 200 seeds: ties at 4
-#: rooms p90 17 -> 16 rounds against 1; quasi-linear tenants unchanged).
+#: rooms p90 17 -> 16 rounds against 1; quasi-linear, 6 rooms, rough values: 5 / 8 either way).
 PIN = 2
 
 
