@@ -20,7 +20,9 @@ from fractions import Fraction
 from solver.money import split_exactly
 
 #: First step as a share of an equal share of the rent, and the factor per adjustment round.
-FIRST_STEP = Fraction(1, 8)
+#: The search reaches this mode after learning rounds, near the answer already: measured,
+#: budget-capped tenants at 6 rooms, 200 seeds: p90 rounds 23 with 1/8, 19 with 1/16 or 1/32.
+FIRST_STEP = Fraction(1, 16)
 SHRINK = Fraction(7, 10)
 
 

@@ -34,6 +34,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 from fractions import Fraction
+from typing import Any
 
 import numpy as np
 from scipy.optimize import linear_sum_assignment, linprog
@@ -61,46 +62,104 @@ def welfare_assignment(values: np.ndarray) -> tuple[int, ...]:
 
 
 def largest_margin_prices(
-    values: np.ndarray, rent: int, floor: int, assignment: Sequence[int] | None = None
+    values: np.ndarray,
+    rent: int,
+    floor: int,
+    assignment: Sequence[int] | None = None,
+    *,
+    second_stage: bool = False,
 ) -> CentrePrices:
-    """Solve the LP of the module docstring (``values`` is members x rooms)."""
+    """Solve the LP of the module docstring (``values`` is members x rooms). With
+    ``second_stage``, then among the prices with that smallest margin take those with the
+    largest margin for every member and room not held to it (see :func:`_solve`)."""
     rooms = values.shape[1]
     plan = tuple(assignment) if assignment is not None else welfare_assignment(values)
     let = set(plan)
     empty = [j for j in range(rooms) if j not in let]
-    cost = np.zeros(rooms + 1)
-    cost[rooms] = -1.0
-    rows: list[np.ndarray] = []
-    rhs: list[float] = []
+    margin_rows: list[np.ndarray] = []
+    gaps: list[float] = []
     for i, own in enumerate(plan):
         for k in range(rooms):
             if k != own:  # p[own] - p[k] + t <= v[i][own] - v[i][k]
                 row = np.zeros(rooms + 1)
-                row[own], row[k], row[rooms] = 1.0, -1.0, 1.0
-                rows.append(row)
-                rhs.append(float(values[i, own] - values[i, k]))
+                row[own], row[k] = 1.0, -1.0
+                margin_rows.append(row)
+                gaps.append(float(values[i, own] - values[i, k]))
+    order_rows: list[np.ndarray] = []
     for e in empty:
         for j in let:  # p[e] - p[j] <= 0
             row = np.zeros(rooms + 1)
             row[e], row[j] = 1.0, -1.0
-            rows.append(row)
-            rhs.append(0.0)
+            order_rows.append(row)
     equality = np.zeros((1, rooms + 1))
     for j in let:
         equality[0, j] = 1.0
+    bounds = [(floor + 1, None)] * rooms + [(None, float(rent))]
+    held = np.zeros(len(margin_rows), dtype=bool)
+    first = _solve(margin_rows, gaps, order_rows, held, 0.0, equality, rent, bounds)
+    margin = float(first.x[rooms])
+    duals = np.asarray(first.ineqlin.marginals[: len(margin_rows)], dtype=float)
+    held = np.abs(duals) > DUAL_EPSILON
+    result = first
+    if second_stage and held.any() and not held.all():
+        second = _solve(margin_rows, gaps, order_rows, held, margin, equality, rent, bounds)
+        if second.status == 0:
+            result = second
+    prices = tuple(float(p) for p in result.x[:rooms])
+    return CentrePrices(plan, prices, margin)
+
+
+#: A dual value above this marks a margin constraint that holds the first stage's optimum.
+DUAL_EPSILON = 1e-9
+
+
+def _solve(
+    margin_rows: Sequence[np.ndarray],
+    gaps: Sequence[float],
+    order_rows: Sequence[np.ndarray],
+    held: np.ndarray,
+    held_margin: float,
+    equality: np.ndarray,
+    rent: int,
+    bounds: Sequence[tuple[float | None, float | None]],
+) -> Any:
+    """Maximise ``t``: every margin row not ``held`` at least ``t``, the held ones at least
+    ``held_margin``.
+
+    The second stage of a lexicographic max-min: a margin constraint with a nonzero dual
+    value in the first stage is tight at *every* optimum (complementary slackness, e.g.
+    Bertsimas & Tsitsiklis, "Introduction to Linear Optimization", section 4.3), so holding
+    it at the first margin loses nothing, and the others can be pushed further. Without
+    this stage HiGHS returns a vertex of the optimal face: when two members' estimates are
+    alike (the smallest margin is then 0 whatever the prices), everyone else's margins are
+    whatever that vertex gives, often 0 too.
+    """
+    rows: list[np.ndarray] = []
+    rhs: list[float] = []
+    for row, gap, is_held in zip(margin_rows, gaps, held, strict=True):
+        with_t = row.copy()
+        if is_held:
+            rhs.append(gap - held_margin)
+        else:
+            with_t[-1] = 1.0
+            rhs.append(gap)
+        rows.append(with_t)
+    rows.extend(order_rows)
+    rhs.extend([0.0] * len(order_rows))
+    cost = np.zeros(equality.shape[1])
+    cost[-1] = -1.0
     result = linprog(
         cost,
         A_ub=np.array(rows),
         b_ub=np.array(rhs),
         A_eq=equality,
         b_eq=np.array([float(rent)]),
-        bounds=[(floor + 1, None)] * rooms + [(None, float(rent))],
+        bounds=list(bounds),
         method="highs",
     )
-    if result.status != 0:  # pragma: no cover - feasible and bounded by construction
+    if result.status != 0 and not held.any():  # pragma: no cover - feasible and bounded
         raise BrokenInvariant(f"largest-margin LP failed: {result.message}")
-    prices = tuple(float(p) for p in result.x[:rooms])
-    return CentrePrices(plan, prices, float(result.x[rooms]))
+    return result
 
 
 def whole_prices(

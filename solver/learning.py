@@ -15,13 +15,13 @@ negative cycle (Cormen, Leiserson, Rivest & Stein, "Introduction to Algorithms",
 verdict is exact: no floating point decides whether someone contradicted themselves.
 
 The *estimate* is the analytic centre of the polytope intersected with a box (the point
-maximising the sum of the logarithms of all slacks). The box keeps it bounded: from 0 to the
-rent by default, or around a member's rough values (a soft prior, doubled in width until the
-answers fit inside it, so rough values never overrule an answer). The centre is computed by a
-damped Newton method on the log-barrier (plain numpy), started from a strictly interior point
-found by one linear programme (scipy's HiGHS). The Chebyshev centre (largest inscribed ball)
-was the obvious alternative; the analytic centre uses every constraint, not only the closest
-ones, and does not creep along thin polytopes.
+maximising the sum of the logarithms of all slacks). The box keeps it bounded: from 0 to two
+equal shares of the rent by default, or around a member's rough values (a soft prior,
+doubled in width until the answers fit inside it, so rough values never overrule an
+answer). The centre is computed by a damped Newton method on the log-barrier (plain numpy),
+started from a strictly interior point found by one linear programme (scipy's HiGHS). The
+Chebyshev centre (largest inscribed ball) was the obvious alternative; the analytic centre
+uses every constraint, not only the closest ones, and does not creep along thin polytopes.
 """
 
 from __future__ import annotations
@@ -39,6 +39,8 @@ CENTRE_SLACK = 0.5
 #: How often a box may be doubled before we give up on it (2**40 rents is beyond any price).
 MAX_WIDENINGS = 40
 NEWTON_STEPS = 100
+#: Half-width of the default box in equal shares of the rent (see :func:`default_box`).
+DEFAULT_HALF = 1.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -59,8 +61,13 @@ class Box:
 
 
 def default_box(rooms: int, rent: int) -> Box:
-    """Values from 0 to the rent for every room."""
-    return Box((rent / 2,) * rooms, (rent / 2,) * rooms)
+    """Values from 0 to two equal shares of the rent for every room (a soft prior: answers
+    that do not fit widen it). Measured, 50 seeds, against 0 to the whole rent: median
+    rounds at 4 rooms 9 -> 8, ties at 6 rooms median / p90 17 / 20 -> 16 / 19; 0.5 or 0.75
+    shares were a little faster still on the benchmark's tenants, whose values lie within
+    about 0.45 to 1.75 shares, but that would tune the prior to the simulator."""
+    share = rent / rooms
+    return Box((share,) * rooms, (DEFAULT_HALF * share,) * rooms)
 
 
 def prior_box(rough: Sequence[float], rent: int) -> Box:

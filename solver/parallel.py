@@ -53,10 +53,9 @@ from solver.walk import Walk
 FORMAT_NAME = saved.FORMAT_NAME
 Earlier = Mapping[str, Sequence[tuple[Sequence[int], int]]]
 #: Median rounds by room count (``python -m solver.bench --rounds``), without / with rough values.
-#: 4, 6, 8 and 10 rooms from 200 seeds; 2, 3, 5, 7 and 9 from 40 seeds (rough: measured
-#: before the prior box was weighted, which lowered the 4- and 6-room medians by one).
-TYPICAL = {2: 3, 3: 6, 4: 9, 5: 11, 6: 12, 7: 13, 8: 14, 9: 15, 10: 15}
-TYPICAL_ROUGH = {2: 1, 3: 1, 4: 3, 5: 5, 6: 6, 7: 7, 8: 8, 9: 9, 10: 8}
+#: 4, 6, 8 and 10 rooms from 200 seeds; 2, 3, 5, 7 and 9 from 40 seeds.
+TYPICAL = {2: 4, 3: 5, 4: 8, 5: 11, 6: 11, 7: 12, 8: 13, 9: 14, 10: 14}
+TYPICAL_ROUGH = {2: 1, 3: 1, 4: 3, 5: 4, 6: 5, 7: 6, 8: 7, 9: 7, 10: 8}
 
 
 class ParallelSearch:
@@ -323,6 +322,7 @@ class ParallelSearch:
                 self._values,
                 self._boxes(),
                 {p.base for p in self.plans},
+                second_stage=self.rough is not None,
             )
         self.plans.append(plan)
         self._round_picks = {}

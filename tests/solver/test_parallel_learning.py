@@ -42,7 +42,7 @@ def test_polytope_always_contains_a_quasi_linear_tenants_values(
 
 
 def test_the_centre_of_nothing_learned_is_the_box_centre() -> None:
-    # by symmetry the analytic centre of the box [0, rent]^n within sum == rent is the equal
+    # by symmetry the analytic centre of the box [0, 2 * rent / n]^n within sum == rent is the equal
     # share; around rough values it is the rough values shifted to sum to the rent
     learned = ValueSet(4)
     assert np.allclose(learned.centre(default_box(4, 1000), 1000), [250] * 4)
