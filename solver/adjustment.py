@@ -34,23 +34,22 @@ def step_size(share: Fraction, steps_taken: int) -> Fraction:
 def adjusted_prices(
     prices: Sequence[int],
     picks: Mapping[str, int],
-    members: int,
     step: Fraction,
     floor: int,
 ) -> tuple[int, ...]:
-    """Move every room by ``step * (choosers - members / rooms)``, keeping the total.
+    """Move every room by ``step * (choosers - answered / rooms)``, keeping the total.
 
-    ``picks`` maps each member who answered to the room they took at ``prices``. With every
-    member answering, the excess demands sum to zero, so the total is unchanged before the
-    clamp at ``floor + 1``; the clamp's cost is taken from the dearest rooms, and the last
-    fraction of a unit is placed by :func:`solver.money.split_exactly`.
+    ``picks`` maps each member who answered to the room they took at ``prices`` (an admin may
+    close a round before everyone did, or before anyone answered at these prices: then
+    nothing moves). The excess demands of those who answered sum to zero, so the total is
+    unchanged before the clamp at ``floor + 1``; the clamp's cost is taken from the dearest
+    rooms, and the last fraction of a unit is placed by :func:`solver.money.split_exactly`.
     """
     rooms = len(prices)
     demand = [0] * rooms
     for room in picks.values():
         demand[room] += 1
-    answered = len(picks) or members
-    level = Fraction(answered, rooms)
+    level = Fraction(len(picks), rooms)
     moved = [Fraction(p) + step * (demand[j] - level) for j, p in enumerate(prices)]
     lowest = floor + 1
     clamped = [max(m, Fraction(lowest)) for m in moved]

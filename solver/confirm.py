@@ -88,7 +88,5 @@ class Confirmation:
     def next_prices(self) -> tuple[int, ...]:
         """Adjusted by demand, the step shrinking from one tolerance (the total is kept)."""
         step = Fraction(self.problem.tolerance) * SHRINK ** (self.number - 1)
-        moved = adjusted_prices(
-            self.prices, self.picks, len(self.problem.members), step, self.problem.floor
-        )
+        moved = adjusted_prices(self.prices, self.picks, step, self.problem.floor)
         return let_rooms_carry_the_rent(self.problem, moved)

@@ -78,9 +78,7 @@ def adjust_plan(problem: Problem, last: Plan, picks: Mapping[int, int], steps_ta
     members = len(problem.members)
     share = Fraction(problem.rent, members)
     step = step_size(share, steps_taken)
-    moved = adjusted_prices(
-        last.base, {str(i): r for i, r in picks.items()}, members, step, problem.floor
-    )
+    moved = adjusted_prices(last.base, {str(i): r for i, r in picks.items()}, step, problem.floor)
     moved = let_rooms_carry_the_rent(problem, moved)
     return Plan("adjust", moved, (moved,) * members, None)
 
