@@ -162,5 +162,6 @@ def test_a_search_saved_before_facts_existed_still_loads() -> None:
     )
     search = ParallelSearch.from_json(old)
     assert search.to_json() == old
-    assert ParallelSearch.replay(old).to_json() == old
+    # Replaying re-plans with today's planner (plans may differ); the answers are all kept.
+    assert json.loads(ParallelSearch.replay(old).to_json())["log"] == json.loads(old)["log"]
     assert [q.id for q in search.open_questions()] == ["r2-2", "r2-3"]
