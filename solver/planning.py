@@ -9,7 +9,7 @@ Three kinds of round (see :class:`solver.rounds.Plan`):
   then takes a different room, those very answers certify the division exactly.
 * ``near-tie`` — as ``centre``, but each member sees their planned room a little cheaper
   (:mod:`solver.near_ties`): used once some member's values are pinned closer than the
-  tolerance, or when the plan would repeat an earlier price list (answers there are known, so
+  tolerance (two tolerances for a likely twin, :func:`solver.twins.likely_twins`), or when the plan would repeat an earlier price list (answers there are known, so
   asking again cannot make progress). Also a round in which a pair of possible twins is asked
   at two different points (:mod:`solver.twins`) when the estimates leave no common price list
   with a positive margin; such a round cannot certify (its envy bound is above the tolerance).
@@ -38,8 +38,9 @@ from solver.twins import likely_twins, probe_asks
 #: round, which bridges about one tolerance either side of the estimate's centre, so for
 #: them it starts at ``PIN_TWINS`` (measured, 200 seeds: ties at 4 rooms p90 17 -> 16 rounds
 #: against 1). Anyone else keeps ``PIN``: a common price list can still certify exactly
-#: (measured, 80 seeds, quasi-linear without rough values: exact 74% -> 90% at 6 rooms and
-#: 20% -> 44% at 10 rooms against 2 for everyone).
+#: (measured, 200 seeds, quasi-linear without rough values, against 2 for everyone: exact
+#: 73% -> 86% at 6 rooms, 20% -> 43% at 10; rounds p90 14 -> 15 at 6 rooms, 17 at 10 either
+#: way; ties unchanged, as their twins are spotted before they are pinned).
 PIN = 1
 PIN_TWINS = 2
 

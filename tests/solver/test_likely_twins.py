@@ -42,7 +42,7 @@ def test_likely_twins_took_the_same_room_at_enough_common_prices_and_fit_one_tas
     said = [dict(first), dict(second)]  # the last answer at a price list counts, as in the search
     common = [p for p in said[0] if p in said[1]]
     alike = len(common) >= SEEN_ALIKE and all(said[0][p] == said[1][p] for p in common)
-    expected = alike and _one_taste_explains(list(said[0].items()) + list(said[1].items()))
+    expected = alike and _one_taste_explains(first + second)
     assert likely_twins(sets, said) == ({0, 1} if expected else set())
 
 
