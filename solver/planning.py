@@ -9,8 +9,9 @@ Three kinds of round (see :class:`solver.rounds.Plan`):
   then takes a different room, those very answers certify the division exactly.
 * ``near-tie`` — as ``centre``, but each member sees their planned room a little cheaper
   (:mod:`solver.near_ties`): used once some member's values are pinned closer than the
-  tolerance (two tolerances for a likely twin, :func:`solver.twins.likely_twins`), or when the plan would repeat an earlier price list (answers there are known, so
-  asking again cannot make progress). Also a round in which a pair of possible twins is asked
+  tolerance (two tolerances for a likely twin, :func:`solver.twins.likely_twins`), or when
+  the plan would repeat an earlier price list (answers there are known, so asking again
+  cannot make progress). Also a round in which a pair of possible twins is asked
   at two different points (:mod:`solver.twins`) when the estimates leave no common price list
   with a positive margin; such a round cannot certify (its envy bound is above the tolerance).
 * ``adjust`` — model-free price adjustment (:mod:`solver.adjustment`) once any member's
