@@ -323,6 +323,7 @@ class ParallelSearch:
                 self._boxes(),
                 {p.base for p in self.plans},
                 second_stage=self.rough is not None,
+                said=[self._memory.get(m, {}) for m in self.problem.members],
             )
         self.plans.append(plan)
         self._round_picks = {}

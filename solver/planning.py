@@ -9,8 +9,9 @@ Three kinds of round (see :class:`solver.rounds.Plan`):
   then takes a different room, those very answers certify the division exactly.
 * ``near-tie`` — as ``centre``, but each member sees their planned room a little cheaper
   (:mod:`solver.near_ties`): used once some member's values are pinned closer than the
-  tolerance, or when the plan would repeat an earlier price list (answers there are known, so
-  asking again cannot make progress). Also a round in which a pair of possible twins is asked
+  tolerance (two tolerances for a likely twin, :func:`solver.twins.likely_twins`), or when
+  the plan would repeat an earlier price list (answers there are known, so asking again
+  cannot make progress). Also a round in which a pair of possible twins is asked
   at two different points (:mod:`solver.twins`) when the estimates leave no common price list
   with a positive margin; such a round cannot certify (its envy bound is above the tolerance).
 * ``adjust`` — model-free price adjustment (:mod:`solver.adjustment`) once any member's
@@ -30,13 +31,19 @@ from solver.learning import Box, ValueSet
 from solver.near_ties import largest_cut, nudged
 from solver.problem import Problem
 from solver.rounds import Plan
-from solver.twins import probe_asks
+from solver.twins import likely_twins, probe_asks
 
 #: A member's values count as pinned (and a near-tie round is planned) once some difference
-#: to their planned room is known closer than this many tolerances: a near-tie round bridges
-#: about one tolerance either side of the estimate's centre (measured, 200 seeds: ties at 4
-#: rooms p90 17 -> 16 rounds against 1; quasi-linear, 6 rooms, rough values: 5 / 8 either way).
-PIN = 2
+#: to their planned room is known closer than this many tolerances. A member who looks like
+#: someone's twin (:func:`solver.twins.likely_twins`) can only end a round in a near-tie
+#: round, which bridges about one tolerance either side of the estimate's centre, so for
+#: them it starts at ``PIN_TWINS`` (measured, 200 seeds: ties at 4 rooms p90 17 -> 16 rounds
+#: against 1). Anyone else keeps ``PIN``: a common price list can still certify exactly
+#: (measured, 200 seeds, quasi-linear without rough values, against 2 for everyone: exact
+#: 73% -> 86% at 6 rooms, 20% -> 43% at 10; rounds p90 14 -> 15 at 6 rooms, 17 at 10 either
+#: way; ties unchanged, as their twins are spotted before they are pinned).
+PIN = 1
+PIN_TWINS = 2
 
 
 def centre_plan(
@@ -46,21 +53,25 @@ def centre_plan(
     seen_bases: Collection[tuple[int, ...]],
     *,
     second_stage: bool = False,
+    said: Sequence[Mapping[tuple[int, ...], int]] = (),
 ) -> Plan:
-    """The next ``centre`` (or ``near-tie``) round for consistent answers."""
+    """The next ``centre`` (or ``near-tie``) round for consistent answers; ``said[i]`` is
+    member ``i``'s answers so far (price list -> room), to spot likely twins."""
     estimates = np.array(
         [vs.centre(box, problem.rent) for vs, box in zip(value_sets, boxes, strict=True)]
     )
     lp = largest_margin_prices(estimates, problem.rent, problem.floor, second_stage=second_stage)
     let = sorted(lp.assignment)
     base = whole_prices(lp.prices, let, problem.rent, problem.floor + 1)
+    twins = likely_twins(value_sets, said) if said else set()
     pinned = False
-    for vs, own in zip(value_sets, lp.assignment, strict=True):
+    for i, (vs, own) in enumerate(zip(value_sets, lp.assignment, strict=True)):
         widths = np.delete(vs.widths()[own], own)
-        pinned = pinned or bool(np.any(widths < PIN * problem.tolerance))
+        pin = PIN_TWINS if i in twins else PIN
+        pinned = pinned or bool(np.any(widths < pin * problem.tolerance))
     if not pinned and base not in seen_bases:
         asks = [base] * len(value_sets)
-        wide = PIN * problem.tolerance
+        wide = PIN_TWINS * problem.tolerance
         # margin <= 0: at the estimates no common price list can end the round, so a pair
         # that may be twins is better asked at two points (solver.twins).
         if lp.margin <= 0 and probe_asks(

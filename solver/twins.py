@@ -19,11 +19,15 @@ above the tolerance unless the probes are within it of the proposed prices.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 
 import numpy as np
 
 from solver.learning import ValueSet
+
+#: Common price lists two members must have answered alike before :func:`likely_twins`
+#: counts them (one alike answer is common between different tastes).
+SEEN_ALIKE = 2
 
 
 def twin_pairs(value_sets: Sequence[ValueSet], assignment: Sequence[int]) -> list[tuple[int, int]]:
@@ -75,6 +79,32 @@ def probe_asks(
                 asks[member] = tuple(prices)
                 moved = True
     return moved
+
+
+def likely_twins(
+    value_sets: Sequence[ValueSet], said: Sequence[Mapping[tuple[int, ...], int]]
+) -> set[int]:
+    """Members who look like someone else's twin: with that other member they were asked at
+    least :data:`SEEN_ALIKE` common price lists, took the same room at every one of them, and
+    one taste explains both their answers.
+
+    Stricter than :func:`twin_pairs`, which counts any two members whose answers one taste
+    could explain (early on that is almost everyone, and two members who took different rooms
+    at the same prices still could be, if both were indifferent). Two members with different
+    tastes soon take different rooms at some common price list; twins never do.
+    """
+    members: set[int] = set()
+    for i, first in enumerate(said):
+        for j in range(i + 1, len(said)):
+            second = said[j]
+            common = first.keys() & second.keys()
+            if len(common) < SEEN_ALIKE or any(first[p] != second[p] for p in common):
+                continue
+            merged = ValueSet(value_sets[i].rooms)
+            merged.limit = np.minimum(value_sets[i].limit, value_sets[j].limit)
+            if merged.consistent():
+                members.update((i, j))
+    return members
 
 
 def _has_answers(values: ValueSet) -> bool:
