@@ -173,15 +173,8 @@ async def propose(
         prices=proposal.prices,
         envy_bound=proposal.envy_bound,
     )
+    await same_split.remind_to_agree(ctx, record, number)
     members = await ctx.tx.members(record.id)
-    for member in members:
-        await ctx.tx.add_timer(
-            record.id,
-            TimerKind.REMINDER,
-            member.user_id,
-            f"p{number}",
-            ctx.now + ctx.config.reminder_after,
-        )
     choices = await same_split.vote_buttons(ctx, record, number)
     facts = division_facts(record, members, proposal, number)
     if any(c.action is Action.END_ROUND for c in choices):

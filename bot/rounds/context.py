@@ -131,7 +131,7 @@ class Context:
 
     async def search(self, record: RoundRecord) -> AnySearch:
         """The round's search: from this event, from the engine's cache if current, else
-        from the store (snapshot + steps; replaying steps runs in a worker thread)."""
+        from the store (snapshot + steps, read and replayed in a worker thread)."""
         if record.id in self.searches:
             return self.searches[record.id].search
         held = self.cache.pop(record.id, None)
@@ -145,10 +145,7 @@ class Context:
         if snapshot is None:
             raise StorageFault(f"round {record.id} is {record.phase.value} but has no search")
         steps = await self.tx.search_steps(record.id)
-        if steps:
-            search = await asyncio.to_thread(replay, record.id, snapshot, steps)
-        else:
-            search = replay(record.id, snapshot, ())
+        search = await asyncio.to_thread(replay, record.id, snapshot, steps)
         size = sum(len(step) for step in steps)
         held = HeldSearch(record.walk_rev, search, len(steps), size, len(snapshot))
         held.snapshot_round = round_of(search)
@@ -187,7 +184,7 @@ class Context:
             new_round=round_of(search) != held.snapshot_round,
         )
         if held.fresh or due:
-            snapshot = search.to_json()
+            snapshot = await asyncio.to_thread(search.to_json)  # up to ~260 KiB late in a walk
             await self.tx.update_round(round_id, at=self.now, walk_json=snapshot)
             held.rev, held.fresh, held.snapshot_round = held.rev + 1, False, round_of(search)
             held.steps, held.step_bytes, held.snapshot_bytes = 0, 0, len(snapshot)

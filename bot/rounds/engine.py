@@ -244,7 +244,7 @@ async def _press(ctx: Context, event: Press) -> None:
     elif token.action in (Action.KEEP_EARLIER, Action.ANSWER_AFRESH):
         keep = token.action is Action.KEEP_EARLIER
         await answer_reuse.choose(ctx, record, event.actor, token.ref, keep)
-    elif token.action is Action.PREFER and await rent_change.is_repriced(ctx, record):
+    elif token.action is Action.PREFER and await rent_change.still_repriced(ctx, record):
         assert token.room is not None
         await rent_change.object_with_room(ctx, record, event.actor, token.ref, token.room)
     else:

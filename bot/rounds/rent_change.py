@@ -158,7 +158,7 @@ def _repriced(
     )
 
 
-async def is_repriced(ctx: Context, record: RoundRecord) -> bool:
+async def still_repriced(ctx: Context, record: RoundRecord) -> bool:
     """The round is still at its re-priced proposal (no objection has replaced it)."""
     return record.walk_json is not None and isinstance(await ctx.search(record), RepricedSearch)
 

@@ -78,6 +78,18 @@ async def vote_buttons(ctx: Context, record: RoundRecord, number: int) -> tuple[
     )
 
 
+async def remind_to_agree(ctx: Context, record: RoundRecord, number: int) -> None:
+    """One reminder per member for split ``number`` (dropped once they agree or it goes)."""
+    for member in await ctx.tx.members(record.id):
+        await ctx.tx.add_timer(
+            record.id,
+            TimerKind.REMINDER,
+            member.user_id,
+            f"p{number}",
+            ctx.now + ctx.config.reminder_after,
+        )
+
+
 async def came_back(ctx: Context, record: RoundRecord, proposal: Proposal) -> bool:
     """If ``proposal`` repeats an earlier split, handle it here (True); else post as usual."""
     same_as = await earlier_same(ctx, record, proposal)
@@ -88,14 +100,7 @@ async def came_back(ctx: Context, record: RoundRecord, proposal: Proposal) -> bo
     await ctx.tx.update_round(record.id, at=ctx.now, phase=phase, proposal_no=number)
     await ctx.tx.clear_accepted(record.id)
     await ctx.audit(record.id, AuditKind.SAME_SPLIT, None, proposal_no=number, same_as=same_as)
-    for member in await ctx.tx.members(record.id):
-        await ctx.tx.add_timer(
-            record.id,
-            TimerKind.REMINDER,
-            member.user_id,
-            f"p{number}",
-            ctx.now + ctx.config.reminder_after,
-        )
+    await remind_to_agree(ctx, record, number)
     made, _ = await objections_so_far(ctx, record)
     last = await last_choice_due(ctx, record)
     note = SplitNoteFacts(record.id, number, same_as, made, ctx.config.objection_limit)

@@ -17,6 +17,7 @@ load (the restart tests in ``tests/bot/test_search_steps.py`` catch that).
 
 from __future__ import annotations
 
+import asyncio
 import json
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -125,4 +126,5 @@ async def stored_search(tx: Transaction, record: RoundRecord) -> AnySearch | Non
     outside an event (answer reuse, agreements worked out, the demo, tests)."""
     if record.walk_json is None:
         return None
-    return replay(record.id, record.walk_json, await tx.search_steps(record.id))
+    steps = await tx.search_steps(record.id)
+    return await asyncio.to_thread(replay, record.id, record.walk_json, steps)
