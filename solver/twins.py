@@ -12,10 +12,12 @@ Art of Computer Programming" vol. 3, section 6.2.1, from memory). The member pla
 ``a`` sees the lower difference, so if the pair's worth lies between the probes they already
 choose differently.
 
-Likely twins (seen alike often enough, :func:`pooled_for_twins`) also *pool* what they
-said: both are estimated from the answers of both. Then what one learns at their probe also
-moves the other's estimate, and the two estimates are equal, so the plan never expects a
-common price list to split them (its largest margin is 0) and keeps probing.
+Tried and measured, not kept: estimating two members who kept answering alike from both
+their answers (pooling). It helped true twins (ties at 6 rooms, 200 seeds, runs within 16
+rounds 167 -> 174 when pooled after two alike price lists) but pooled quasi-linear tenants
+of merely similar taste in half of all rounds and cost them (runs within 15 rounds at 6
+rooms 192 -> 185, exact certificates 173 -> 161 of 200); requiring more evidence first
+gave up the gain for twins before it stopped the cost.
 
 No certificate rests on this: such a round certifies only with the bound that
 :func:`solver.envy.envy_bound` computes from the prices each member actually saw, which is
@@ -24,7 +26,7 @@ above the tolerance unless the probes are within it of the proposed prices.
 
 from __future__ import annotations
 
-from collections.abc import Collection, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 
 import numpy as np
 
@@ -97,14 +99,9 @@ def likely_twins(
 
 
 def likely_twin_pairs(
-    value_sets: Sequence[ValueSet],
-    said: Sequence[Mapping[tuple[int, ...], int]],
-    *,
-    telling: int = 0,
+    value_sets: Sequence[ValueSet], said: Sequence[Mapping[tuple[int, ...], int]]
 ) -> list[tuple[int, int]]:
-    """Every pair ``(i, j)``, ``i < j``, behind :func:`likely_twins`; with ``telling``, only
-    pairs alike at that many common price lists at which someone else chose differently
-    (where everyone took the same room, being alike says nothing about being twins)."""
+    """Every pair ``(i, j)``, ``i < j``, behind :func:`likely_twins`."""
     pairs: list[tuple[int, int]] = []
     for i, first in enumerate(said):
         for j in range(i + 1, len(said)):
@@ -112,57 +109,9 @@ def likely_twin_pairs(
             common = first.keys() & second.keys()
             if len(common) < SEEN_ALIKE or any(first[p] != second[p] for p in common):
                 continue
-            if telling and _told_apart_from_others(said, (i, j), common) < telling:
-                continue
             if joint(value_sets[i], value_sets[j]).consistent():
                 pairs.append((i, j))
     return pairs
-
-
-def _told_apart_from_others(
-    said: Sequence[Mapping[tuple[int, ...], int]],
-    pair: tuple[int, int],
-    common: Collection[tuple[int, ...]],
-) -> int:
-    """How many of the pair's ``common`` price lists someone outside it answered otherwise."""
-    first = said[pair[0]]
-    return sum(
-        any(
-            k not in pair and prices in other and other[prices] != first[prices]
-            for k, other in enumerate(said)
-        )
-        for prices in common
-    )
-
-
-#: Telling price lists (see :func:`likely_twin_pairs`) before two members' answers are pooled.
-#: Measured, 200 seeds each on seeds 0-199 / 200-399, choices only, runs within 16 rounds
-#: for ties at 6 rooms and within 15 for quasi-linear tenants at 6 rooms (the targets' p90):
-#: no pooling 167 / 165 and 192 / 195; pooling at 2 alike lists 174 / 181 and 185 / 184
-#: (two quasi-linear tenants of similar taste were pooled in half of all rounds); at 3
-#: telling lists 179 / 181 and 187 / 188; at 4, 171 / 180 and 187 / 194; at 5, 169 and 192.
-POOL_AFTER_TELLING = 4
-
-
-def pooled_for_twins(
-    value_sets: Sequence[ValueSet], said: Sequence[Mapping[tuple[int, ...], int]]
-) -> list[ValueSet]:
-    """``value_sets`` with each pair of likely twins (at :data:`POOL_AFTER_TELLING` telling
-    price lists) sharing the answers of both.
-
-    For *estimates* only (the plan's centre, how pinned a member is, where to probe): no
-    certificate and no consistency verdict reads them, and each member's own answers stay
-    their own. Pairs are taken in order and a member joins at most one (a member alike to
-    two others would otherwise pool the answers of two people who were never compared).
-    """
-    out = list(value_sets)
-    taken: set[int] = set()
-    for i, j in likely_twin_pairs(value_sets, said, telling=POOL_AFTER_TELLING):
-        if i in taken or j in taken:
-            continue
-        taken.update((i, j))
-        out[i] = out[j] = joint(value_sets[i], value_sets[j])
-    return out
 
 
 def joint(first: ValueSet, second: ValueSet) -> ValueSet:
