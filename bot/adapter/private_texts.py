@@ -152,6 +152,15 @@ def my_answers(f: MyAnswersFacts, locale: str) -> str:
             for room, p in zip(f.rooms, line.prices, strict=True)
         )
         rows.append(f"{number}. {line.room} at {prices} ({how.get(line.how, line.how)})")
+    if f.before_rent_change:
+        return (
+            "The latest round only moved the agreed prices to the new rent and asked nobody "
+            "anything. Your answers in the agreed round it rests on (only you see this):\n"
+            + "\n".join(rows)
+            + "\nThat round is settled, so these can no longer be changed. If the new split "
+            "is not right for you, tap swap on it while it waits for agreement; after that, "
+            "an admin can start a fresh round with /again.\n" + SHORT_CAUTION
+        )
     return (
         "Your answers in the latest round (only you see this):\n"
         + ("\n".join(rows) or "• none yet")

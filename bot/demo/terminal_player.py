@@ -70,7 +70,12 @@ class TerminalPlayer:
             room = _room_number(typed, self.rooms)
             if room in asked.offered:
                 return room
-            self.console.print("That room is not on offer here; type one of the numbers shown.")
+            if room is None:
+                self.console.print(
+                    f"Type a room number from 1 to {len(self.rooms)}, or '{WRONG}'.", markup=False
+                )
+            else:
+                self.console.print("That room is not on offer here; type one of the numbers shown.")
 
     async def rough_values(self, name: str, rooms: tuple[str, ...]) -> str | None:
         """Typed as a person would (any amount format); an empty line skips."""

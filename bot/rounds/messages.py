@@ -237,6 +237,9 @@ class MyAnswersFacts:
     decimals: int
     rooms: tuple[str, ...]
     lines: tuple[AnswerLine, ...]
+    #: the latest round only re-priced an agreement for a new rent: these are the answers of
+    #: the agreed round it rests on
+    before_rent_change: bool = False
 
 
 @dataclass(frozen=True, slots=True)

@@ -26,24 +26,64 @@ from bot.rounds.messages import (
     Recipient,
 )
 from bot.rounds.permissions import require_member
-from bot.rounds.records import OWN_ANSWER_KINDS, AuditKind
+from bot.rounds.records import OWN_ANSWER_KINDS, AuditKind, RoundRecord
+from bot.rounds.repriced_search import is_repriced
 
 #: How a line reads when its answer no longer counts.
 NO_LONGER_COUNTS = "set-aside"
 
 
 async def show(ctx: Context, group_id: int, actor: Actor) -> None:
-    """Only the member's own answers, only to that member, from the group's latest round."""
+    """Only the member's own answers, only to that member, from the group's latest round.
+
+    A round that only re-priced an agreement for a new rent (:mod:`bot.rounds.rent_change`)
+    asked nobody anything: its split rests on the answers of the agreed round before it, so
+    those are listed instead (saying so), while the member has none in the new round.
+    """
     record = await ctx.tx.latest_round(group_id)
     if record is None:
         raise NotAllowed("this group has no round yet, so you have no answers to see")
     require_member(await ctx.tx.members(record.id), actor)
+    _require_kept(ctx, record)
+    lines, changeable = await _answers(ctx, record, actor)
+    shown, before_rent_change = record, False
+    if not lines and record.previous_round is not None and _repriced(record):
+        earlier = await ctx.tx.round_by_id(record.previous_round)
+        if earlier is not None and actor.user_id in {
+            m.user_id for m in await ctx.tx.members(earlier.id)
+        }:
+            _require_kept(ctx, earlier)
+            lines, changeable = await _answers(ctx, earlier, actor)
+            shown, before_rent_change = earlier, True
+    buttons: list[Choice] = [
+        await issue_choice(ctx, shown.id, Action.CHANGE_ANSWER, qid, number)
+        for number, qid in changeable[-LISTED:]
+    ]
+    s = shown.settings
+    facts = MyAnswersFacts(
+        shown.id, s.currency, s.decimals, s.rooms, tuple(lines), before_rent_change
+    )
+    ctx.send(Outgoing(Recipient.person(actor.user_id), Kind.MY_ANSWERS, facts, tuple(buttons)))
+
+
+def _require_kept(ctx: Context, record: RoundRecord) -> None:
     if record.forgotten_at is not None:
         raise NotAllowed(
             "your answers in this group's last round were deleted: answers are kept for "
             f"{ctx.config.keep_answers_days} days after a round ends. Its agreement is kept; "
             "see /agreements"
         )
+
+
+def _repriced(record: RoundRecord) -> bool:
+    return record.walk_json is not None and is_repriced(record.walk_json)
+
+
+async def _answers(
+    ctx: Context, record: RoundRecord, actor: Actor
+) -> tuple[list[AnswerLine], list[tuple[int, str]]]:
+    """The member's answer lines in ``record`` and the (line number, question) pairs that
+    may still be changed."""
     live = {
         q.qid
         for q in await ctx.tx.questions(record.id)
@@ -64,10 +104,4 @@ async def show(ctx: Context, group_id: int, actor: Actor) -> None:
             changeable.append((len(lines), str(qid)))
         prices = tuple(int(p) for p in detail["prices"])
         lines.append(AnswerLine(entry.at, prices, room, how))
-    buttons: list[Choice] = [
-        await issue_choice(ctx, record.id, Action.CHANGE_ANSWER, qid, number)
-        for number, qid in changeable[-LISTED:]
-    ]
-    s = record.settings
-    facts = MyAnswersFacts(record.id, s.currency, s.decimals, s.rooms, tuple(lines))
-    ctx.send(Outgoing(Recipient.person(actor.user_id), Kind.MY_ANSWERS, facts, tuple(buttons)))
+    return lines, changeable

@@ -24,10 +24,19 @@ from bot.rounds.events import (
     OpenJoining,
     Press,
     Rerun,
+    ShowMyAnswers,
     Tick,
 )
 from bot.rounds.invariants import check_dump
-from bot.rounds.messages import Action, AgreementFacts, DivisionFacts, Kind, Outgoing, RoundFacts
+from bot.rounds.messages import (
+    Action,
+    AgreementFacts,
+    DivisionFacts,
+    Kind,
+    MyAnswersFacts,
+    Outgoing,
+    RoundFacts,
+)
 from bot.rounds.phases import Phase
 from bot.rounds.searches import records_of
 from bot.rounds.setup_input import SetupInput, parse_rent
@@ -104,6 +113,24 @@ async def test_new_rent_is_spread_equally_confirmed_and_kept_with_its_history(
     dump = await store.dump()
     assert [row[3] for row in dump["rounds"]] == [Phase.SETTLED.value] * 2
     check_dump(dump)
+
+
+async def test_my_answers_in_a_re_priced_round_are_the_ones_it_rests_on(
+    engine: Engine, store: SqliteStore
+) -> None:
+    play, _, _ = await settled_round(engine)
+    member = play.members[1]
+    agreed = only(await play.send(ShowMyAnswers(play.key(), GROUP, member)), Kind.MY_ANSWERS)
+    assert isinstance(agreed.facts, MyAnswersFacts) and agreed.facts.lines
+    await play.send(change("rent-1", play.admin, "1,900.00"))
+    mine = only(await play.send(ShowMyAnswers(play.key(), GROUP, member)), Kind.MY_ANSWERS)
+    assert isinstance(mine.facts, MyAnswersFacts)
+    assert mine.facts.before_rent_change and not agreed.facts.before_rent_change
+    assert mine.facts.lines == agreed.facts.lines
+    assert mine.choices == ()  # a settled round's answers can no longer be changed
+    text = render(mine, "en")
+    assert "asked nobody anything" in text and "only you see this" in text
+    check_dump(await store.dump())
 
 
 async def test_an_objection_asks_questions_again_from_that_answer(
