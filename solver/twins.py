@@ -16,8 +16,9 @@ Tried and measured, not kept: estimating two members who kept answering alike fr
 their answers (pooling). It helped true twins (ties at 6 rooms, 200 seeds, runs within 16
 rounds 167 -> 174 when pooled after two alike price lists) but pooled quasi-linear tenants
 of merely similar taste in half of all rounds and cost them (runs within 15 rounds at 6
-rooms 192 -> 185, exact certificates 173 -> 161 of 200); requiring more evidence first
-gave up the gain for twins before it stopped the cost.
+rooms 192 -> 185, exact certificates 173 -> 161 of 200). Pooling only after three alike
+lists at which someone else chose differently kept more of the gain (ties 179) and still
+cost ordinary flats (4 rooms: p90 11 -> 12 rounds, exact 98% -> 94%).
 
 No certificate rests on this: such a round certifies only with the bound that
 :func:`solver.envy.envy_bound` computes from the prices each member actually saw, which is
