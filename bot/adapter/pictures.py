@@ -12,6 +12,9 @@ already tells the group:
   answer);
 * an even split of the rent as a reference point (it depends on nothing but the rent).
 
+A split re-priced for a new rent (:mod:`bot.rounds.rent_change`) gets no tolerance band:
+nobody chose anything at its prices; it is the agreed split with every room moved equally.
+
 So two rounds with the same settings and the same proposed prices get the same picture,
 whatever anyone answered (tested). Who takes which room is in the proposal text, not here.
 
@@ -38,6 +41,7 @@ from matplotlib.figure import Figure
 from matplotlib.patches import Polygon
 
 from bot.rounds.money_text import shown
+from bot.rounds.repriced_search import RepricedSearch
 from bot.rounds.searches import AnySearch
 from solver.money import format_minor, split_exactly
 
@@ -72,6 +76,9 @@ class PictureData:
     even_split: tuple[int | None, ...]
     proposal: tuple[int, ...] | None
     empty_rooms: tuple[int, ...]
+    #: False for a split re-priced for a new rent: nobody chose anything at its prices, so
+    #: no tolerance band is drawn (its promise is the agreement's, moved equally)
+    band: bool = True
 
 
 def picture_data(walk: AnySearch) -> PictureData:
@@ -93,6 +100,7 @@ def picture_data(walk: AnySearch) -> PictureData:
         even_split=tuple(even),
         proposal=proposal.prices if proposal else None,
         empty_rooms=empty,
+        band=not isinstance(walk, RepricedSearch),
     )
 
 
@@ -151,17 +159,20 @@ def _triangle(data: PictureData, currency: str) -> Figure:
     ax.annotate("even split", (ex, ey), (6, -12), textcoords="offset points", fontsize=8)
     if data.proposal is not None:
         px, py = triangle_xy(data.proposal, data.floor, data.rent)
-        band = [
-            triangle_xy(p, data.floor, data.rent)
-            for p in tolerance_band(data.proposal, data.tolerance)
-        ]
-        hexagon = Polygon(band, closed=True, facecolor="#56B4E9", alpha=0.35, edgecolor="#0072B2")
-        ax.add_patch(hexagon)
-        hexagon.set_clip_path(outline)
         ax.annotate("", (px, py), (ex, ey), arrowprops={"arrowstyle": "->", "color": "#5b5b5b"})
         ax.scatter([px], [py], s=110, marker="*", color="#000000", zorder=4, label="proposal")
-        ax.plot([], [], color="#56B4E9", lw=6, alpha=0.6, label="within the tolerance")
-        _zoom(fig, band, (px, py), cash(data.tolerance))
+        if data.band:
+            band = [
+                triangle_xy(p, data.floor, data.rent)
+                for p in tolerance_band(data.proposal, data.tolerance)
+            ]
+            hexagon = Polygon(
+                band, closed=True, facecolor="#56B4E9", alpha=0.35, edgecolor="#0072B2"
+            )
+            ax.add_patch(hexagon)
+            hexagon.set_clip_path(outline)
+            ax.plot([], [], color="#56B4E9", lw=6, alpha=0.6, label="within the tolerance")
+            _zoom(fig, band, (px, py), cash(data.tolerance))
         prices = ", ".join(
             f"{room} {cash(price)}" for room, price in zip(data.rooms, data.proposal, strict=True)
         )
@@ -210,7 +221,7 @@ def _price_bars(data: PictureData, currency: str, decimals: int) -> Figure:
             color=OKABE_ITO[room],
             edgecolor="#333333",
             hatch="//" if room in data.empty_rooms else None,
-            xerr=data.tolerance / per_major,
+            xerr=data.tolerance / per_major if data.band else None,
             capsize=4,
         )
         ax.plot([price], [room], marker=MARKERS[room], color="#333333", markersize=5)
@@ -227,7 +238,11 @@ def _price_bars(data: PictureData, currency: str, decimals: int) -> Figure:
     ax.set_yticks(list(rows), data.rooms)
     ax.invert_yaxis()
     ax.set_xlabel(f"proposed price {currency}".strip())
-    title = "Proposed price per room, give or take the tolerance; dashed: an even split"
+    title = (
+        "Proposed price per room, give or take the tolerance; dashed: an even split"
+        if data.band
+        else "Price per room after the rent change; dashed: an even split"
+    )
     if data.empty_rooms:
         title += "\nhatched: stays empty"
     ax.set_title(title, fontsize=10)

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 from telegram import Bot
 
-from bot.adapter.pictures import picture_data, render_png
+from bot.adapter.pictures import PictureData, picture_data, render_png
 from bot.rounds.caution import CAUTION
 from bot.rounds.engine import Engine
 
@@ -29,6 +29,19 @@ CAPTION = (
     "tolerance, next to an even split. Your answers stay private: the picture shows none "
     f"of them. {CAUTION}"
 )
+
+#: For a split re-priced for a new rent: nobody was asked anything, nothing is vouched for
+#: beyond the agreement it moves.
+REPRICED_CAPTION = (
+    "Where the re-priced split lies: the agreed split with every room's price moved by an "
+    "equal share of the rent change, next to an even split. Nobody was asked anything new; "
+    f"the picture shows no one's answers. {CAUTION}"
+)
+
+
+def caption_for(data: PictureData) -> str:
+    """The picture's caption: what it shows, within the Bot API's caption limit."""
+    return (CAPTION if data.band else REPRICED_CAPTION)[:CAPTION_LIMIT]
 
 
 @dataclass(frozen=True, slots=True)
@@ -48,7 +61,7 @@ async def walk_picture(engine: Engine, round_id: int) -> WalkPicture | None:
     data = picture_data(walk)
     # Matplotlib takes a moment; a worker thread keeps the bot answering meanwhile.
     png = await asyncio.to_thread(render_png, data, settings.currency, settings.decimals)
-    return WalkPicture(png, CAPTION[:CAPTION_LIMIT])
+    return WalkPicture(png, caption_for(data))
 
 
 async def send_walk_picture(bot: Bot, engine: Engine, chat_id: int, round_id: int) -> int | None:

@@ -10,7 +10,9 @@ import re
 import pytest
 from flat_scenario import GROUP, RENT, RENT_TEXT, ROOMS, SECRET, people, tenants_for
 
+from bot.adapter.pictures import picture_data, render_png
 from bot.adapter.texts import render
+from bot.adapter.walk_picture import CAPTION, REPRICED_CAPTION, caption_for
 from bot.rounds.caution import CAUTION
 from bot.rounds.clock import ManualClock
 from bot.rounds.context import EngineConfig
@@ -131,6 +133,28 @@ async def test_my_answers_in_a_re_priced_round_are_the_ones_it_rests_on(
     text = render(mine, "en")
     assert "asked nobody anything" in text and "only you see this" in text
     check_dump(await store.dump())
+
+
+async def test_the_picture_of_a_re_priced_split_draws_no_tolerance_band(
+    engine: Engine, store: SqliteStore
+) -> None:
+    """Nobody chose anything at a re-priced split's prices: its picture and caption must not
+    show the band "within the tolerance of these", which only answers can vouch for."""
+    play, _, _ = await settled_round(engine)
+    await play.send(change("rent-1", play.admin, "1,900.00"))
+    first, latest = sorted(row[0] for row in (await store.dump())["rounds"])
+    pictures = []
+    for round_id in (first, latest):
+        found = await engine.search_of(round_id)
+        assert found is not None
+        pictures.append(picture_data(found[0]))
+    agreed, repriced = pictures
+    assert agreed.band and not repriced.band
+    assert caption_for(agreed) == CAPTION and caption_for(repriced) == REPRICED_CAPTION
+    assert "tolerance" not in REPRICED_CAPTION and CAUTION in REPRICED_CAPTION
+    assert sum(repriced.proposal or ()) == NEW_RENT
+    for data in pictures:  # both draw (three rooms: the triangle)
+        assert render_png(data, "EUR").startswith(b"\x89PNG")
 
 
 async def test_an_objection_asks_questions_again_from_that_answer(

@@ -74,6 +74,7 @@ def test_group_picture_data_is_the_proposal_and_the_settings() -> None:
         "even_split",
         "proposal",
         "empty_rooms",
+        "band",  # whether the split came from answers or from a rent change: no answer
     }
     assert data.proposal == result.proposal.prices
     assert (data.rooms, data.rent, data.floor, data.tolerance) == (
