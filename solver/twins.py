@@ -96,14 +96,7 @@ def likely_twins(
     at the same prices still could be, if both were indifferent). Two members with different
     tastes soon take different rooms at some common price list; twins never do.
     """
-    return {member for pair in likely_twin_pairs(value_sets, said) for member in pair}
-
-
-def likely_twin_pairs(
-    value_sets: Sequence[ValueSet], said: Sequence[Mapping[tuple[int, ...], int]]
-) -> list[tuple[int, int]]:
-    """Every pair ``(i, j)``, ``i < j``, behind :func:`likely_twins`."""
-    pairs: list[tuple[int, int]] = []
+    members: set[int] = set()
     for i, first in enumerate(said):
         for j in range(i + 1, len(said)):
             second = said[j]
@@ -111,8 +104,8 @@ def likely_twin_pairs(
             if len(common) < SEEN_ALIKE or any(first[p] != second[p] for p in common):
                 continue
             if joint(value_sets[i], value_sets[j]).consistent():
-                pairs.append((i, j))
-    return pairs
+                members.update((i, j))
+    return members
 
 
 def joint(first: ValueSet, second: ValueSet) -> ValueSet:

@@ -27,7 +27,7 @@ from bot.rounds.messages import (
 )
 from bot.rounds.permissions import require_member
 from bot.rounds.records import OWN_ANSWER_KINDS, AuditKind, RoundRecord
-from bot.rounds.repriced_search import is_repriced
+from bot.rounds.rent_change import still_repriced
 
 #: How a line reads when its answer no longer counts.
 NO_LONGER_COUNTS = "set-aside"
@@ -47,7 +47,7 @@ async def show(ctx: Context, group_id: int, actor: Actor) -> None:
     _require_kept(ctx, record)
     lines, changeable = await _answers(ctx, record, actor)
     shown, before_rent_change = record, False
-    if not lines and record.previous_round is not None and _repriced(record):
+    if not lines and record.previous_round is not None and await still_repriced(ctx, record):
         earlier = await ctx.tx.round_by_id(record.previous_round)
         if earlier is not None and actor.user_id in {
             m.user_id for m in await ctx.tx.members(earlier.id)
@@ -73,10 +73,6 @@ def _require_kept(ctx: Context, record: RoundRecord) -> None:
             f"{ctx.config.keep_answers_days} days after a round ends. Its agreement is kept; "
             "see /agreements"
         )
-
-
-def _repriced(record: RoundRecord) -> bool:
-    return record.walk_json is not None and is_repriced(record.walk_json)
 
 
 async def _answers(
